@@ -1,0 +1,28 @@
+PY ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+STAMP := $(VENV)/.installed
+
+.PHONY: demo test bench lint clean
+
+$(STAMP): pyproject.toml
+	test -d $(VENV) || $(PY) -m venv $(VENV)
+	$(BIN)/pip install -q --upgrade pip
+	$(BIN)/pip install -q -e '.[test]'
+	touch $(STAMP)
+
+demo: $(STAMP)
+	$(BIN)/bankbuild demo --out bankbuild-out
+
+test: $(STAMP)
+	$(BIN)/ruff check bankbuild tests benchmarks
+	$(BIN)/pytest
+
+bench: $(STAMP)
+	$(BIN)/python benchmarks/run.py
+
+lint: $(STAMP)
+	$(BIN)/ruff check bankbuild tests benchmarks
+
+clean:
+	rm -rf $(VENV) bankbuild-out .pytest_cache .ruff_cache .hypothesis
