@@ -1,0 +1,255 @@
+"""The spec: what a user writes in YAML, validated strictly (pydantic).
+
+Every model forbids unknown keys, refuses NaN and infinity, and takes numbers as numbers (a quoted "480" is an
+error, not a guess). The need and each load take exactly one of their documented forms; the form is named by
+the keys the user gives, and giving two forms at once is an error that names both.
+
+Results (what the tool computes) live in :mod:`bankbuild.results`.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal
+
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, field_validator, model_validator
+
+TEXT_MAX = 200
+
+def _as_text(value: object) -> object:
+    """YAML reads ``2026-12-01`` as a date and ``2`` as a number: in a text field take them as written."""
+    import datetime
+
+    if isinstance(value, (datetime.date, int, float)) and not isinstance(value, bool):
+        return str(value)
+    return value
+
+
+Text = Annotated[str, BeforeValidator(_as_text), Field(max_length=TEXT_MAX)]
+Kvar = Annotated[float, Field(gt=0, le=100_000)]
+PowerFactor = Annotated[float, Field(gt=0, le=1)]
+Efficiency = Annotated[float, Field(gt=0, le=1)]
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", strict=True, allow_inf_nan=False, frozen=True)
+
+
+class Project(_Strict):
+    """Free-text title-block fields, all optional."""
+
+    name: Text = "Unnamed project"
+    site: Text = ""
+    prepared_by: Text = ""
+    checked_by: Text = ""
+    revision: Text = ""
+    date: Text = ""
+
+
+class Supply(_Strict):
+    """The supply the bank connects to (line-to-line voltage) and, optionally, its transformer."""
+
+    voltage_v: Annotated[float, Field(ge=100, le=1000)]
+    frequency_hz: Annotated[float, Field(ge=45, le=65)]
+    transformer_kva: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    transformer_z_pct: Annotated[float, Field(gt=0, le=25)] | None = None
+    source_sc_mva: Annotated[float, Field(gt=0, le=100_000)] | None = None
+
+    @model_validator(mode="after")
+    def _transformer_pair(self) -> Supply:
+        if (self.transformer_kva is None) != (self.transformer_z_pct is None):
+            raise ValueError("give transformer_kva and transformer_z_pct together, or neither")
+        if self.source_sc_mva is not None and self.transformer_kva is None:
+            raise ValueError("source_sc_mva needs transformer_kva and transformer_z_pct")
+        return self
+
+    @property
+    def has_transformer(self) -> bool:
+        return self.transformer_kva is not None
+
+
+LOAD_FORMS: dict[str, tuple[str, ...]] = {
+    "motor_kw": ("output_kw", "efficiency", "pf"),
+    "motor_hp": ("output_hp", "efficiency", "pf"),
+    "input_kw": ("input_kw", "pf"),
+    "kva": ("kva", "pf"),
+    "current": ("line_current_a", "pf"),
+}
+
+
+def _one_form(given: set[str], forms: dict[str, tuple[str, ...]], what: str) -> str:
+    """Name the single form whose keys are all given; refuse none, several, or stray keys."""
+    leading = {keys[0]: name for name, keys in forms.items()}
+    chosen = [leading[k] for k in leading if k in given]
+    options = "; ".join("{" + ", ".join(keys) + "}" for keys in forms.values())
+    if not chosen:
+        raise ValueError(f"{what} needs one of these forms: {options}")
+    if len(chosen) > 1:
+        keys = ", ".join(forms[c][0] for c in chosen)
+        raise ValueError(f"{what} gives two forms at once ({keys}); give exactly one of: {options}")
+    form = chosen[0]
+    missing = [k for k in forms[form] if k not in given]
+    if missing:
+        raise ValueError(f"{what} form {{{', '.join(forms[form])}}} is missing {', '.join(missing)}")
+    stray = sorted(k for k in given if k not in forms[form])
+    if stray:
+        raise ValueError(f"{what} form {{{', '.join(forms[form])}}} does not take {', '.join(stray)}")
+    return form
+
+
+class Load(_Strict):
+    """One line of a load list; ``quantity`` identical loads."""
+
+    name: Text = ""
+    quantity: Annotated[int, Field(ge=1, le=10_000)] = 1
+    output_kw: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    output_hp: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    efficiency: Efficiency | None = None
+    input_kw: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    kva: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    line_current_a: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    pf: PowerFactor | None = None
+
+    @model_validator(mode="after")
+    def _check_form(self) -> Load:
+        given = {k for k in self.model_fields_set if k not in ("name", "quantity")}
+        _one_form(given, LOAD_FORMS, "load")
+        return self
+
+    @property
+    def form(self) -> str:
+        given = {k for k in self.model_fields_set if k not in ("name", "quantity")}
+        return _one_form(given, LOAD_FORMS, "load")
+
+
+NEED_FORMS: dict[str, tuple[str, ...]] = {
+    "kvar": ("kvar",),
+    "power": ("kw", "pf_present", "pf_target"),
+    "loads": ("loads", "pf_target"),
+}
+
+
+class Need(_Strict):
+    """What the bank must supply: kvar, or kW with present and target PF, or a load list and target PF."""
+
+    kvar: Kvar | None = None
+    kw: Annotated[float, Field(gt=0, le=1_000_000)] | None = None
+    pf_present: PowerFactor | None = None
+    pf_target: PowerFactor | None = None
+    loads: Annotated[list[Load], Field(min_length=1, max_length=2000)] | None = None
+
+    @model_validator(mode="after")
+    def _check_form(self) -> Need:
+        form = _one_form(set(self.model_fields_set), NEED_FORMS, "need")
+        if form == "power" and self.pf_target < self.pf_present:
+            raise ValueError(
+                f"pf_target {self.pf_target} is below pf_present {self.pf_present}: a capacitor bank raises "
+                "the power factor"
+            )
+        return self
+
+    @property
+    def form(self) -> str:
+        return _one_form(set(self.model_fields_set), NEED_FORMS, "need")
+
+
+class StepPlan(_Strict):
+    """An automatic bank given as a step count and a pattern instead of explicit step sizes."""
+
+    count: Annotated[int, Field(ge=1, le=32)]
+    pattern: Annotated[str, Field(max_length=80)] = "equal"
+
+    @field_validator("pattern")
+    @classmethod
+    def _pattern(cls, value: str) -> str:
+        if value == "equal":
+            return value
+        parts = value.split(":")
+        try:
+            weights = [int(p) for p in parts]
+        except ValueError:
+            raise ValueError(f"pattern {value!r} must be 'equal' or weights like 1:2:2 or 1:2:4") from None
+        if any(w <= 0 for w in weights) or len(weights) < 2:
+            raise ValueError(f"pattern {value!r} needs two or more positive whole weights, like 1:2:2")
+        return value
+
+    def weights(self) -> list[int]:
+        """Weights for each of ``count`` steps: the pattern's last weight repeats to fill the count."""
+        if self.pattern == "equal":
+            return [1] * self.count
+        given = [int(p) for p in self.pattern.split(":")]
+        return (given + [given[-1]] * self.count)[: self.count]
+
+
+class Protection(_Strict):
+    """Protective device choice and the multipliers applied to the capacitor's rated current."""
+
+    device: Literal["fuse", "breaker"] = "fuse"
+    conductor_factor: Annotated[float, Field(ge=1.0, le=3.0)] = 1.35
+    device_factor: Annotated[float, Field(ge=1.0, le=3.0)] | None = None
+    disconnect_factor: Annotated[float, Field(ge=1.0, le=3.0)] = 1.35
+    conductor_temp_c: Literal[60, 75, 90] = 75
+    installation_method: Literal["B1", "C", "E"] = "C"
+    insulation: Literal["PVC", "XLPE"] = "PVC"
+    max_parallel_sets: Annotated[int, Field(ge=1, le=12)] = 6
+
+    def effective_device_factor(self) -> float:
+        """The device factor, or the default for the device: 1.65 fuse, 1.35 breaker (common practice)."""
+        if self.device_factor is not None:
+            return self.device_factor
+        return 1.65 if self.device == "fuse" else 1.35
+
+
+class DischargeRule(_Strict):
+    """Override of the discharge rule: residual ``limit_v`` within ``time_s`` after disconnection."""
+
+    limit_v: Annotated[float, Field(gt=0, le=1000)]
+    time_s: Annotated[float, Field(gt=0, le=3600)]
+
+
+class Bank(_Strict):
+    """One capacitor bank."""
+
+    name: Text
+    supply: Supply
+    need: Need
+    connection: Literal["delta", "wye"] = "delta"
+    steps: Annotated[list[Kvar], Field(min_length=1, max_length=32)] | StepPlan | None = None
+    capacitor_voltage_v: Annotated[float, Field(ge=100, le=1000)] | None = None
+    voltage_margin_pct: Annotated[float, Field(ge=0, le=30)] = 0.0
+    detuning_pct: Annotated[float, Field(gt=0, lt=20)] | None = None
+    protection: Protection = Protection()
+    discharge: DischargeRule | None = None
+
+    @field_validator("connection", mode="before")
+    @classmethod
+    def _star_is_wye(cls, value: object) -> object:
+        if isinstance(value, str) and value.strip().lower() in ("star", "wye", "y"):
+            return "wye"
+        if isinstance(value, str) and value.strip().lower() in ("delta", "d"):
+            return "delta"
+        return value
+
+    @property
+    def tuning_factor(self) -> float:
+        """Detuning as a fraction p (0 when the bank is not detuned)."""
+        return (self.detuning_pct or 0.0) / 100.0
+
+
+class Spec(_Strict):
+    """A whole spec file: project fields, the rule basis, one or more banks, optional user tables."""
+
+    project: Project = Project()
+    rules: Literal["nec", "iec"] = "nec"
+    nec_edition: Literal[2023, 2020] = 2023
+    banks: Annotated[list[Bank], Field(min_length=1, max_length=5000)]
+    catalogs: Annotated[str, Field(min_length=1, max_length=4096)] | None = None
+
+    @model_validator(mode="after")
+    def _unique_names(self) -> Spec:
+        seen: set[str] = set()
+        for bank in self.banks:
+            if bank.name in seen:
+                raise ValueError(f"two banks are named {bank.name!r}: give each bank its own name")
+            seen.add(bank.name)
+        return self
+

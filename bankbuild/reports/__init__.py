@@ -1,0 +1,1 @@
+"""Reports read results only: terminal summary, JSON, tables (CSV/XLSX) and PDF documents."""

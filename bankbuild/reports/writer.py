@@ -1,0 +1,49 @@
+"""Writing the documents of a run: every file to a temporary name first, then renamed into place."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from collections.abc import Callable
+from pathlib import Path
+
+from ..errors import OptionError
+from ..results import ProjectResult
+
+
+def _writers() -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
+    """(file name, renderer) pairs: each renderer returns the whole file as bytes."""
+    from .jsonout import project_json
+
+    return [("results.json", lambda r: project_json(r).encode("utf-8"))]
+
+
+def write_documents(result: ProjectResult, out_dir: Path) -> list[Path]:
+    """Render every document in memory, then write each atomically into ``out_dir``.
+
+    Nothing is written unless every document rendered, and no reader ever sees a half-written file.
+    """
+    rendered = [(name, render(result)) for name, render in _writers()]
+    try:
+        out_dir.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OptionError(str(out_dir), "--out", f"cannot create the folder ({exc.strerror or exc})") from None
+    if not out_dir.is_dir():
+        raise OptionError(str(out_dir), "--out", "is not a folder")
+    written = []
+    for name, data in rendered:
+        written.append(write_atomic(out_dir / name, data))
+    return written
+
+
+def write_atomic(path: Path, data: bytes) -> Path:
+    """Write ``data`` to ``path`` through a temporary file in the same folder and an atomic rename."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+        os.replace(tmp, path)
+    except OSError as exc:
+        Path(tmp).unlink(missing_ok=True)
+        raise OptionError(str(path), "--out", f"cannot write ({exc.strerror or exc})") from None
+    return path

@@ -1,0 +1,180 @@
+"""Results: what the pipeline computes, frozen, read by the reports and dumped as JSON.
+
+Field names carry their units. The keys listed as stable in the product design (``name``, ``required_kvar``,
+``delivered_kvar``, ``steps``, ``main``, ``discharge``, ``resonance``, ``checks`` …) keep their meaning.
+"""
+
+from __future__ import annotations
+
+from pydantic import BaseModel, ConfigDict
+
+
+class _Frozen(BaseModel):
+    model_config = ConfigDict(frozen=True, extra="forbid")
+
+
+class Check(_Frozen):
+    """One rule check or flag. ``ok`` False means the result does not meet it as computed."""
+
+    name: str
+    ok: bool
+    detail: str
+    rule: str = ""
+    level: str = "check"  # check | caution | info
+
+
+class Pick(_Frozen):
+    """A rating picked from a table: its designation, value, and where it came from."""
+
+    designation: str
+    value: float
+    table: str
+    row: int
+
+
+class SizingLine(_Frozen):
+    """One row of the protection worksheet: what is sized, how, by which rule, and what was picked."""
+
+    item: str
+    formula: str
+    basis_a: float
+    factor: float
+    required_a: float
+    rule: str
+    chosen: str
+    chosen_a: float
+    ok: bool
+    note: str = ""
+
+
+class UnitLine(_Frozen):
+    """Identical capacitor units within one step."""
+
+    id: str
+    qty: int
+    rated_kvar: float
+    rated_voltage_v: float
+    rated_frequency_hz: float
+    delivered_kvar_each: float
+    table: str
+    row: int
+
+
+class Detuning(_Frozen):
+    """Detuning reactor figures for one step."""
+
+    tuning_pct: float
+    tuning_frequency_hz: float
+    tuning_order: float
+    capacitor_voltage_v: float
+    capacitor_kvar_at_supply: float
+    reactor_inductance_mh: float
+    reactor_current_a: float
+
+
+class Step(_Frozen):
+    index: int
+    target_kvar: float
+    kvar: float
+    rated_kvar: float
+    rated_current_a: float
+    line_current_a: float
+    capacitance_uf_per_leg: float
+    units: list[UnitLine]
+    device: str
+    device_rating_a: float
+    conductor: str
+    conductor_ampacity_a: float
+    sizing: list[SizingLine]
+    detuning: Detuning | None = None
+
+
+class Main(_Frozen):
+    rated_current_a: float
+    design_current_a: float
+    device: str
+    conductor: str
+    conductor_ampacity_a: float
+    device_rating_a: float
+    disconnect_rating_a: float
+    sizing: list[SizingLine]
+
+
+class Discharge(_Frozen):
+    step_index: int
+    capacitance_uf_per_leg: float
+    start_voltage_v: float
+    limit_v: float
+    time_s: float
+    rule: str
+    max_resistance_ohm: float
+    resistor_power_w: float
+    builtin_time_s: float
+    builtin_ok: bool
+    ok: bool
+
+
+class ResonancePoint(_Frozen):
+    steps: list[int]
+    kvar: float
+    harmonic_order: float
+    near_harmonic: int | None
+
+
+class NeedSummary(_Frozen):
+    """How the need was stated and what it works out to at the supply."""
+
+    form: str
+    active_kw: float | None
+    reactive_kvar: float | None
+    pf_present: float | None
+    pf_target: float | None
+    pf_corrected: float | None
+    required_kvar: float
+
+
+class BankResult(_Frozen):
+    name: str
+    rules: str
+    connection: str
+    supply_voltage_v: float
+    frequency_hz: float
+    transformer_kva: float | None
+    transformer_z_pct: float | None
+    need: NeedSummary
+    required_kvar: float
+    delivered_kvar: float
+    capacitor_voltage_v: float
+    rated_kvar: float
+    rated_current_a: float
+    line_current_a: float
+    capacitance_uf_per_phase: float
+    detuning_pct: float | None
+    steps: list[Step]
+    main: Main
+    discharge: Discharge
+    resonance: list[ResonancePoint]
+    voltage_rise_pct: float | None
+    checks: list[Check]
+
+
+class TableUsed(_Frozen):
+    file_name: str
+    sha256: str
+    notes: list[str]
+
+
+class Provenance(_Frozen):
+    version: str
+    rules: str
+    edition: str
+    spec_file: str
+    spec_sha256: str
+    tables: list[TableUsed]
+
+
+class ProjectResult(_Frozen):
+    project: dict[str, str]
+    provenance: Provenance
+    banks: list[BankResult]
+    cautions: list[str]
