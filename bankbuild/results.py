@@ -133,6 +133,19 @@ class NeedSummary(_Frozen):
     required_kvar: float
 
 
+class BomLine(_Frozen):
+    """One line of a bill of materials: identical parts merged, with the table row they came from."""
+
+    item: int
+    qty: float
+    unit: str  # pcs | set | m
+    category: str
+    description: str
+    table: str = ""
+    row: int | None = None
+    notes: str = ""
+
+
 class BankResult(_Frozen):
     name: str
     rules: str
@@ -156,6 +169,7 @@ class BankResult(_Frozen):
     resonance: list[ResonancePoint]
     voltage_rise_pct: float | None
     checks: list[Check]
+    bom: list[BomLine] = []
 
 
 class TableUsed(_Frozen):
@@ -178,3 +192,4 @@ class ProjectResult(_Frozen):
     provenance: Provenance
     banks: list[BankResult]
     cautions: list[str]
+    bom: list[BomLine] = []
