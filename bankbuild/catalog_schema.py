@@ -1,0 +1,363 @@
+"""What each rating table must look like: its columns, units, ranges, keys and order, declared as data.
+
+The loader in :mod:`bankbuild.catalogs` reads only these declarations. To add a table (contactors, reactors,
+controllers, current transformers, enclosure fans, ...): write its row dataclass here, add a
+:class:`TableSchema` to :data:`TABLES`, add a field of the same name to :class:`bankbuild.catalogs.Catalogs`
+and ship the CSV in ``bankbuild/data/catalogs/``. The loading code does not change.
+
+pandas is imported inside :func:`cell_problems` only.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from itertools import pairwise
+from typing import Any
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of a rating table.
+
+    ``dtype`` is ``str``, ``float`` or ``int``. ``unit`` is the unit of a number column, also written as
+    the last part of its name (``rating_a`` is in A). ``minimum``/``maximum`` bound numbers (inclusive),
+    ``allowed`` lists the only values a cell may hold, ``pattern`` is a regular expression a text cell must
+    match in full. A column that is not ``required`` may have empty cells.
+    """
+
+    name: str
+    dtype: type
+    unit: str = ""
+    minimum: float | None = None
+    maximum: float | None = None
+    allowed: tuple[str | float, ...] = ()
+    pattern: str = ""
+    required: bool = True
+
+
+@dataclass(frozen=True)
+class TableSchema:
+    """A rating table: its file, the row dataclass it becomes, and the rules its rows keep.
+
+    ``order`` lists the columns the rows are sorted by; the last one (the rating) strictly increases
+    within each group of rows that agree on the others. ``rising`` columns must not fall from one row to
+    the next within a group; ``across`` columns must not fall from left to right within a row. Each entry of
+    ``keys`` is a set of columns whose values together are unique.
+    """
+
+    file_name: str
+    attr: str
+    row_type: type
+    title: str
+    columns: tuple[Column, ...]
+    keys: tuple[tuple[str, ...], ...]
+    order: tuple[str, ...]
+    rising: tuple[str, ...] = ()
+    across: tuple[str, ...] = ()
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        """The column names in their declared order."""
+        return tuple(c.name for c in self.columns)
+
+
+# -- row types: plain frozen dataclasses, so that callers never need pandas ---------------------------------
+
+
+@dataclass(frozen=True)
+class CapacitorUnit:
+    """A three-phase capacitor unit: nameplate kvar at its rated voltage and frequency."""
+
+    unit_id: str
+    rated_kvar: float
+    rated_voltage_v: float
+    rated_frequency_hz: float
+    connection: str
+    discharge_voltage_v: float
+    discharge_time_s: float
+    losses_w_per_kvar: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class DeviceRating:
+    """A standard ampere rating of a fuse or breaker under one rule basis."""
+
+    basis: str
+    device: str
+    rating_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class BreakerFrame:
+    """A breaker frame size (largest trip rating the frame accepts)."""
+
+    basis: str
+    frame_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class DisconnectRating:
+    """An ampere rating of a disconnecting means (switch)."""
+
+    basis: str
+    rating_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class NecConductor:
+    """A copper conductor size with its NEC Table 310.16 ampacities for one code edition."""
+
+    edition: int
+    size: str
+    area_mm2: float
+    ampacity_60c_a: float
+    ampacity_75c_a: float
+    ampacity_90c_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class IecConductor:
+    """A copper cross-section with its IEC 60364-5-52 current-carrying capacity for one installation."""
+
+    insulation: str
+    method: str
+    area_mm2: float
+    ampacity_a: float
+    table: str
+    row: int
+
+
+# -- the registry --------------------------------------------------------------------------------------------
+
+_BASIS = Column("basis", str, allowed=("nec", "iec"))
+_AMPS = {"unit": "A", "minimum": 0.1, "maximum": 10000.0}
+_AMPACITY = {"unit": "A", "minimum": 1.0, "maximum": 2000.0}
+
+TABLES: tuple[TableSchema, ...] = (
+    TableSchema(
+        file_name="capacitor_units.csv",
+        attr="capacitor_units",
+        row_type=CapacitorUnit,
+        title="Generic three-phase low-voltage capacitor units",
+        columns=(
+            Column("unit_id", str),
+            Column("rated_kvar", float, "kvar", 0.1, 500.0),
+            Column("rated_voltage_v", float, "V", 100.0, 1000.0),
+            Column("rated_frequency_hz", float, "Hz", allowed=(50.0, 60.0)),
+            Column("connection", str, allowed=("delta", "wye")),
+            Column("discharge_voltage_v", float, "V", 1.0, 100.0),
+            Column("discharge_time_s", float, "s", 1.0, 900.0),
+            Column("losses_w_per_kvar", float, "W/kvar", 0.0, 10.0),
+            Column("description", str, required=False),
+        ),
+        keys=(("unit_id",), ("rated_voltage_v", "rated_frequency_hz", "rated_kvar")),
+        order=("rated_frequency_hz", "rated_voltage_v", "rated_kvar"),
+    ),
+    TableSchema(
+        file_name="device_ratings.csv",
+        attr="device_ratings",
+        row_type=DeviceRating,
+        title="Standard ampere ratings of fuses and breakers",
+        columns=(
+            _BASIS,
+            Column("device", str, allowed=("fuse", "breaker")),
+            Column("rating_a", float, **_AMPS),
+        ),
+        keys=(("basis", "device", "rating_a"),),
+        order=("basis", "device", "rating_a"),
+    ),
+    TableSchema(
+        file_name="breaker_frames.csv",
+        attr="breaker_frames",
+        row_type=BreakerFrame,
+        title="Breaker frame sizes",
+        columns=(_BASIS, Column("frame_a", float, **_AMPS)),
+        keys=(("basis", "frame_a"),),
+        order=("basis", "frame_a"),
+    ),
+    TableSchema(
+        file_name="disconnect_ratings.csv",
+        attr="disconnect_ratings",
+        row_type=DisconnectRating,
+        title="Ampere ratings of disconnecting means",
+        columns=(_BASIS, Column("rating_a", float, **_AMPS)),
+        keys=(("basis", "rating_a"),),
+        order=("basis", "rating_a"),
+    ),
+    TableSchema(
+        file_name="conductors_nec.csv",
+        attr="conductors_nec",
+        row_type=NecConductor,
+        title="Copper conductor ampacity, NEC Table 310.16, by edition",
+        columns=(
+            Column("edition", int, "", 1970, 2100),
+            Column("size", str, pattern=r"\d+ AWG|[1-4]/0 AWG|\d+ kcmil"),
+            Column("area_mm2", float, "mm2", 0.1, 1100.0),
+            Column("ampacity_60c_a", float, **_AMPACITY),
+            Column("ampacity_75c_a", float, **_AMPACITY),
+            Column("ampacity_90c_a", float, **_AMPACITY),
+        ),
+        keys=(("edition", "size"), ("edition", "area_mm2")),
+        order=("edition", "area_mm2"),
+        rising=("ampacity_60c_a", "ampacity_75c_a", "ampacity_90c_a"),
+        across=("ampacity_60c_a", "ampacity_75c_a", "ampacity_90c_a"),
+    ),
+    TableSchema(
+        file_name="conductors_iec.csv",
+        attr="conductors_iec",
+        row_type=IecConductor,
+        title="Copper conductor current-carrying capacity, IEC 60364-5-52",
+        columns=(
+            Column("insulation", str, allowed=("PVC", "XLPE")),
+            Column("method", str, allowed=("B1", "C", "E")),
+            Column("area_mm2", float, "mm2", 0.5, 1000.0),
+            Column("ampacity_a", float, **_AMPACITY),
+        ),
+        keys=(("insulation", "method", "area_mm2"),),
+        order=("insulation", "method", "area_mm2"),
+        rising=("ampacity_a",),
+    ),
+)
+
+TABLES_BY_FILE: dict[str, TableSchema] = {t.file_name: t for t in TABLES}
+
+
+# -- checks (the loader raises on the first problem they report) -----------------------------------------
+
+
+def fmt(value: Any) -> str:
+    """A cell value for a message: numbers as written, text quoted."""
+    if isinstance(value, float):
+        return f"{value:g}"
+    return f"'{value}'" if isinstance(value, str) else str(value)
+
+
+def cell_problems(column: Column, cells: Any) -> list[tuple[int, str]]:
+    """(line, problem) for the first bad cell of each check in one column (a pandas Series of text)."""
+    import pandas as pd
+
+    issues: list[tuple[int, str]] = []
+
+    def first(mask: Any, problem: Any) -> None:
+        if mask.any():
+            line = int(mask[mask].index[0])
+            issues.append((line, problem(line)))
+
+    empty = cells.eq("")
+    if column.required:
+        first(empty, lambda n: "empty cell; a value is required")
+    filled = ~empty
+    if column.dtype is str:
+        if column.allowed:
+            allowed = ", ".join(map(str, column.allowed))
+            first(filled & ~cells.isin(column.allowed), lambda n: f"{fmt(cells[n])} is not one of {allowed}")
+        if column.pattern:
+            bad = filled & ~cells.str.fullmatch(column.pattern).fillna(False).astype(bool)
+            first(bad, lambda n: f"{fmt(cells[n])} is not in the expected form ({column.pattern})")
+        return issues
+    numbers = pd.to_numeric(cells.where(filled), errors="coerce")
+    unit = f" {column.unit}" if column.unit else ""
+    literal = cells.str.lower().str.lstrip("+-").isin(("nan", "inf", "infinity"))
+    text = filled & numbers.isna() & ~literal
+    first(text, lambda n: f"'{cells[n]}' is not a number")
+    first(filled & ~text & (numbers.isna() | numbers.abs().eq(float("inf"))),
+          lambda n: f"'{cells[n]}' is not a finite number")
+    ok = filled & numbers.notna() & numbers.abs().ne(float("inf"))
+    if column.dtype is int:
+        first(ok & numbers.ne(numbers.round()), lambda n: f"{cells[n]} is not a whole number")
+    if column.minimum is not None and column.maximum is not None:
+        first(ok & ~numbers.between(column.minimum, column.maximum),
+              lambda n: f"{cells[n]} is outside {column.minimum:g} to {column.maximum:g}{unit}")
+    if column.allowed:
+        allowed = ", ".join(f"{v:g}" for v in column.allowed)
+        first(ok & ~numbers.isin(column.allowed), lambda n: f"{cells[n]} is not one of {allowed}{unit}")
+    return issues
+
+
+def row_problem(schema: TableSchema, rows: list[dict[str, Any]]) -> tuple[int, str, str] | None:
+    """The first (line, column, problem) among the rules between rows, or None.
+
+    Keys are unique, rows are in order, ratings rise within their group, ``rising`` columns do not fall
+    within a group and ``across`` columns do not fall along a row. Each row dict holds typed values and
+    ``row``, its line number.
+    """
+    for key in schema.keys:
+        seen: dict[tuple[Any, ...], int] = {}
+        for row in rows:
+            value = tuple(row[c] for c in key)
+            if value in seen:
+                same = ", ".join(f"{c} {fmt(v)}" for c, v in zip(key, value, strict=True))
+                return row["row"], "", f"duplicate of row {seen[value]} (same {same})"
+            seen[value] = row["row"]
+    group, last = schema.order[:-1], schema.order[-1]
+    for prev, cur in pairwise(rows):
+        for col in schema.order:
+            if cur[col] > prev[col]:
+                break
+            if cur[col] < prev[col]:
+                if col == last:
+                    within = ", ".join(f"{c} {fmt(cur[c])}" for c in group)
+                    problem = f"{fmt(cur[col])} is not above {fmt(prev[col])} on row {prev['row']}; " + (
+                        f"{col} must increase within {within}" if group else f"{col} must increase"
+                    )
+                else:
+                    problem = (f"{fmt(cur[col])} comes after {fmt(prev[col])} on row {prev['row']}; "
+                               f"rows must be sorted by {', '.join(schema.order)}")
+                return cur["row"], col, problem
+        else:
+            return cur["row"], "", f"same {', '.join(schema.order)} as row {prev['row']}"
+        if all(cur[c] == prev[c] for c in group):
+            for col in schema.rising:
+                if cur[col] < prev[col]:
+                    problem = (f"{fmt(cur[col])} is below {fmt(prev[col])} on row {prev['row']}; "
+                               f"{col} must not fall as {last} rises")
+                    return cur["row"], col, problem
+    for row in rows:
+        for left, right in pairwise(schema.across):
+            if row[right] < row[left]:
+                problem = f"{fmt(row[right])} is below {left} {fmt(row[left])} in the same row"
+                return row["row"], right, problem
+    return None
+
+
+def describe_tables() -> str:
+    """The schema of every table as Markdown (the column reference in ``data/catalogs/README.md``).
+
+    Examples
+    --------
+    >>> print(describe_tables().splitlines()[0])
+    ## capacitor_units.csv
+    """
+    out: list[str] = []
+    for t in TABLES:
+        out += [f"## {t.file_name}", "", t.title + ".", ""]
+        out += ["| column | type | unit | allowed |", "|---|---|---|---|"]
+        for c in t.columns:
+            if c.allowed:
+                allowed = ", ".join(f"{v:g}" if isinstance(v, float) else str(v) for v in c.allowed)
+            elif c.minimum is not None:
+                allowed = f"{c.minimum:g} to {c.maximum:g}"
+            elif c.pattern:
+                allowed = "matches `" + c.pattern.replace("|", "\\|") + "`"
+            else:
+                allowed = "any text" if c.required else "any text, may be empty"
+            out.append(f"| `{c.name}` | {c.dtype.__name__} | {c.unit or '-'} | {allowed} |")
+        out += ["", f"Sorted by {', '.join(t.order)}; {t.order[-1]} strictly increases within a group."]
+        out += [f"Unique: {' + '.join(k)}." for k in t.keys]
+        if t.rising:
+            out.append(f"Must not fall as {t.order[-1]} rises: {', '.join(t.rising)}.")
+        if t.across:
+            out.append(f"Must not fall from left to right in a row: {', '.join(t.across)}.")
+        out.append("")
+    return "\n".join(out)
