@@ -230,6 +230,12 @@ TABLES: tuple[TableSchema, ...] = (
     ),
 )
 
+# The assembly's tables (reactors, contactors, controllers, fans, ...) are declared beside the code that picks
+# from them; that module imports nothing of the package, so there is no import cycle.
+from bankbuild.assembly.tables import assembly_tables  # noqa: E402
+
+TABLES = (*TABLES, *assembly_tables(Column, TableSchema))
+
 TABLES_BY_FILE: dict[str, TableSchema] = {t.file_name: t for t in TABLES}
 
 

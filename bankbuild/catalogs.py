@@ -22,6 +22,17 @@ from importlib import resources
 from pathlib import Path
 from typing import Any
 
+from bankbuild.assembly.tables import (
+    Busbar,
+    Contactor,
+    ControlFuse,
+    Controller,
+    ControlTransformer,
+    CurrentTransformer,
+    DeviceLoss,
+    Fan,
+    Reactor,
+)
 from bankbuild.catalog_schema import (
     TABLES,
     TABLES_BY_FILE,
@@ -63,6 +74,15 @@ class Catalogs:
     disconnect_ratings: tuple[DisconnectRating, ...]
     conductors_nec: tuple[NecConductor, ...]
     conductors_iec: tuple[IecConductor, ...]
+    reactors: tuple[Reactor, ...]
+    contactors: tuple[Contactor, ...]
+    controllers: tuple[Controller, ...]
+    current_transformers: tuple[CurrentTransformer, ...]
+    control_transformers: tuple[ControlTransformer, ...]
+    control_fuses: tuple[ControlFuse, ...]
+    device_losses: tuple[DeviceLoss, ...]
+    fans: tuple[Fan, ...]
+    busbars: tuple[Busbar, ...]
     tables: tuple[TableInfo, ...]
     source_dir: str | None
 
@@ -291,7 +311,7 @@ def check_catalogs(directory: str | Path) -> tuple[TableInfo, ...]:
     Examples
     --------
     >>> [t.file_name for t in check_catalogs(builtin_dir())][-1]
-    'conductors_iec.csv'
+    'busbars.csv'
     """
     folder = _folder(directory)
     return tuple(_read_table(t, folder / t.file_name)[0] for t in _known_files(folder))

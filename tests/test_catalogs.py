@@ -171,6 +171,7 @@ def test_frames_and_disconnects(cats: Catalogs) -> None:
 
 UNIT_SUFFIX = {
     "A": "_a", "V": "_v", "Hz": "_hz", "kvar": "_kvar", "s": "_s", "W/kvar": "_w_per_kvar", "mm2": "_mm2",
+    "%": "_pct", "mH": "_mh", "W": "_w", "VA": "_va", "m3/h": "_m3_per_h", "mm": "_mm",
 }
 
 
