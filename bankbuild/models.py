@@ -11,7 +11,18 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, field_validator, model_validator
+from pydantic import (
+    BaseModel,
+    BeforeValidator,
+    ConfigDict,
+    Discriminator,
+    Field,
+    Tag,
+    ValidationError,
+    field_validator,
+    model_validator,
+)
+from pydantic_core import InitErrorDetails, PydanticCustomError
 
 TEXT_MAX = 200
 
@@ -206,6 +217,23 @@ class DischargeRule(_Strict):
     time_s: Annotated[float, Field(gt=0, le=3600)]
 
 
+def _steps_form(value: object) -> str | None:
+    """Which form ``steps`` takes, from the value's type (so an error names the form the user chose)."""
+    if isinstance(value, list):
+        return "List"
+    if isinstance(value, (dict, StepPlan)):
+        return "StepPlan"
+    return None
+
+
+Steps = Annotated[
+    Annotated[list[Kvar], Field(min_length=1, max_length=32), Tag("List")] | Annotated[StepPlan, Tag("StepPlan")],
+    Discriminator(_steps_form, custom_error_type="steps_form",
+                  custom_error_message="steps must be a list of kvar per step, like [50, 50, 100], or a plan "
+                                       "like {count: 5, pattern: '1:2:2'}"),
+]
+
+
 class Bank(_Strict):
     """One capacitor bank."""
 
@@ -213,12 +241,19 @@ class Bank(_Strict):
     supply: Supply
     need: Need
     connection: Literal["delta", "wye"] = "delta"
-    steps: Annotated[list[Kvar], Field(min_length=1, max_length=32)] | StepPlan | None = None
+    steps: Steps | None = None
     capacitor_voltage_v: Annotated[float, Field(ge=100, le=1000)] | None = None
     voltage_margin_pct: Annotated[float, Field(ge=0, le=30)] = 0.0
     detuning_pct: Annotated[float, Field(gt=0, lt=20)] | None = None
     protection: Protection = Protection()
     discharge: DischargeRule | None = None
+
+    @field_validator("name")
+    @classmethod
+    def _name_has_text(cls, value: str) -> str:
+        if not value.strip():
+            raise ValueError("a bank needs a name (it heads the bank's results and documents)")
+        return value
 
     @field_validator("connection", mode="before")
     @classmethod
@@ -244,12 +279,19 @@ class Spec(_Strict):
     banks: Annotated[list[Bank], Field(min_length=1, max_length=5000)]
     catalogs: Annotated[str, Field(min_length=1, max_length=4096)] | None = None
 
-    @model_validator(mode="after")
-    def _unique_names(self) -> Spec:
-        seen: set[str] = set()
-        for bank in self.banks:
-            if bank.name in seen:
-                raise ValueError(f"two banks are named {bank.name!r}: give each bank its own name")
-            seen.add(bank.name)
-        return self
+    @field_validator("banks", mode="wrap")
+    @classmethod
+    def _unique_names(cls, value: object, handler) -> list[Bank]:
+        """Each bank's name is its key in the results: the second bank with a name is refused at its name."""
+        banks = handler(value)
+        first: dict[str, int] = {}
+        for index, bank in enumerate(banks):
+            if bank.name in first:
+                problem = PydanticCustomError(
+                    "duplicate_name", "banks[{first}] has the same name '{name}': give each bank its own name",
+                    {"first": first[bank.name], "name": bank.name})
+                raise ValidationError.from_exception_data(
+                    "Spec", [InitErrorDetails(type=problem, loc=(index, "name"), input=bank.name)])
+            first[bank.name] = index
+        return banks
 

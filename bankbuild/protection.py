@@ -12,13 +12,15 @@ from dataclasses import dataclass, field
 from .results import Check, SizingLine
 from .select import ConductorChoice, Rating, next_rating, pick_conductor
 
-NEC_MIN_PARALLEL_MM2 = 53.49  # 1/0 AWG, NEC 310.10(G)
+# NEC 310.10(G): 1/0 AWG (105.6 kcmil, 53.5 mm²) and larger may run in parallel. The limit sits between 1 AWG
+# (42.4 mm²) and 1/0 AWG so that the rounding of a table's area column (53.48) cannot exclude 1/0 AWG.
+NEC_MIN_PARALLEL_MM2 = 53.0
 NEC_MAX_SINGLE_MM2 = 253.4  # 500 kcmil: larger single conductors are hard to terminate (common practice)
 IEC_MIN_PARALLEL_MM2 = 50.0  # common practice
 IEC_MAX_SINGLE_MM2 = 240.0  # common practice
 NEC_NEXT_SIZE_UP_MAX_A = 800.0  # NEC 240.4(B)
 NEC_SMALL_CONDUCTOR_MAX_A = {"14 AWG": 15.0, "12 AWG": 20.0, "10 AWG": 30.0}  # NEC 240.4(D), copper
-IEC_FUSE_I2_FACTOR = 1.6  # conventional fusing current of gG fuses ≥ 16 A, IEC 60269-2 (from memory)
+IEC_FUSE_I2_FACTOR = 1.6  # conventional fusing current of gG fuses ≥ 16 A, IEC 60269-1 (from memory)
 IEC_BREAKER_I2_FACTOR = 1.3  # conventional tripping current, IEC 60947-2 (from memory)
 VERIFY = "typical practice: verify with the local code"
 
@@ -51,6 +53,35 @@ class Circuit:
     checks: list[Check] = field(default_factory=list)
 
 
+def iec_fuse_i2_factor(rating_a: float) -> float:
+    """Conventional fusing current of a gG fuse-link as a multiple of its rated current [-].
+
+    Parameters
+    ----------
+    rating_a : float
+        Rated current I_n of the fuse-link [A]
+
+    Returns
+    -------
+    float
+        I_2 / I_n: 2.1 up to 4 A, 1.9 above 4 A and below 16 A, 1.6 from 16 A [-]
+
+    References
+    ----------
+    .. [1] IEC 60269-1, conventional time and current of gG fuse-links (from memory: verify).
+
+    Examples
+    --------
+    >>> iec_fuse_i2_factor(4), iec_fuse_i2_factor(12), iec_fuse_i2_factor(125)
+    (2.1, 1.9, 1.6)
+    """
+    if rating_a <= 4:
+        return 2.1
+    if rating_a < 16:
+        return 1.9
+    return IEC_FUSE_I2_FACTOR
+
+
 def conductor_name(rules: str):
     """How a conductor row is named on the documents."""
     if rules == "nec":
@@ -74,7 +105,7 @@ def _protects(ctx: CircuitContext, device: Rating | None):
             # NEC 240.4(B): the next standard rating above the ampacity, up to 800 A.
             above = next_rating(ctx.device_rows, choice.ampacity_a + 1e-6, "rating_a")
             return rating <= NEC_NEXT_SIZE_UP_MAX_A and above is not None and rating <= above.value
-        i2 = (IEC_FUSE_I2_FACTOR if ctx.device == "fuse" else IEC_BREAKER_I2_FACTOR) * rating
+        i2 = (iec_fuse_i2_factor(rating) if ctx.device == "fuse" else IEC_BREAKER_I2_FACTOR) * rating
         return rating <= choice.ampacity_a and i2 <= 1.45 * choice.ampacity_a
 
     return accept
@@ -169,7 +200,7 @@ def size_circuit(ctx: CircuitContext, label: str, current_a: float, basis_text: 
 def _coord_formula(ctx: CircuitContext, rating_a: float) -> str:
     if ctx.rules == "nec":
         return f"device {rating_a:g} A ≤ ampacity, or next standard rating above it (≤ 800 A)"
-    factor = IEC_FUSE_I2_FACTOR if ctx.device == "fuse" else IEC_BREAKER_I2_FACTOR
+    factor = iec_fuse_i2_factor(rating_a) if ctx.device == "fuse" else IEC_BREAKER_I2_FACTOR
     return f"I_n {rating_a:g} A ≤ I_z; I_2 = {factor:g} × {rating_a:g} = {factor * rating_a:.1f} A ≤ 1.45 I_z"
 
 

@@ -115,10 +115,23 @@ def validate_spec(data: dict, where: str) -> Any:
         return Spec.model_validate(data)
     except ValidationError as exc:
         errors = exc.errors(include_url=False)
-        first = errors[0]
+        # An unknown key first: a misspelt required key is also reported missing, and the spelling is the cause.
+        first = min(errors, key=lambda e: e.get("type") != "extra_forbidden")
         field = field_path(first["loc"], data)
         more = f" (and {len(errors) - 1} more problem{'s' if len(errors) > 2 else ''})" if len(errors) > 1 else ""
-        raise SpecError(where, field, _message(first) + more) from None
+        raise SpecError(where, field, _message(first) + _did_you_mean(first, errors) + more) from None
+
+
+def _did_you_mean(error: dict, errors: list[dict]) -> str:
+    """For an unknown key, the closest required key missing beside it (``frequncy_hz`` -> ``frequency_hz``)."""
+    import difflib
+
+    loc = error["loc"]
+    if error.get("type") != "extra_forbidden" or not loc or not isinstance(loc[-1], str):
+        return ""
+    missing = [e["loc"][-1] for e in errors if e.get("type") == "missing" and e["loc"][:-1] == loc[:-1]]
+    close = difflib.get_close_matches(loc[-1], [m for m in missing if isinstance(m, str)], n=1, cutoff=0.6)
+    return f"; did you mean {close[0]!r}?" if close else ""
 
 
 def field_path(loc: tuple, data: Any = None) -> str:
@@ -130,7 +143,7 @@ def field_path(loc: tuple, data: Any = None) -> str:
             label = f"[{part}]"
             if isinstance(node, list) and part < len(node) and isinstance(node[part], dict):
                 name = node[part].get("name")
-                if isinstance(name, str) and name and out.endswith("banks"):
+                if isinstance(name, str) and name.strip() and out.endswith("banks"):
                     label = f"[{part}] ({name[:40]})"
             out += label
             node = node[part] if isinstance(node, list) and part < len(node) else None
@@ -155,6 +168,22 @@ def _message(error: dict) -> str:
     shown = repr(value)
     if len(shown) > 40:
         shown = shown[:37] + "..."
+    if kind in ("too_short", "too_long"):  # "List should have at least 1 item after validation, not 0"
+        return f"{msg[0].lower()}{msg[1:]}".replace(" after validation, not ", " (got ") + ")"
+    if kind in ("float_type", "int_type") and isinstance(value, str) and _is_number(value):
+        hint = ("YAML reads this exponent form as text: write the number out, or with a point and a signed "
+                "exponent like 1.0e+3" if "e" in value.lower()
+                else "a number in quotes is text; write it without quotes")
+        return f"{msg[0].lower()}{msg[1:]} (got {shown}: {hint})"
     if kind.endswith("_type") or kind.startswith(("greater", "less", "literal", "int_", "float_")):
         return f"{msg[0].lower()}{msg[1:]} (got {shown})"
     return msg
+
+
+def _is_number(text: str) -> bool:
+    """Whether ``text`` reads as a number (YAML 1.1 reads ``1e3`` as text: it wants ``1.0e+3``)."""
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
