@@ -14,8 +14,12 @@ from ..results import ProjectResult
 def _writers() -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
     """(file name, renderer) pairs: each renderer returns the whole file as bytes."""
     from .jsonout import project_json
+    from .pdf_bom import bom_pdf
+    from .pdf_worksheet import worksheet_pdf
 
-    return [("results.json", lambda r: project_json(r).encode("utf-8"))]
+    return [("results.json", lambda r: project_json(r).encode("utf-8")),
+            ("bill-of-materials.pdf", bom_pdf),
+            ("protection-worksheet.pdf", worksheet_pdf)]
 
 
 def write_documents(result: ProjectResult, out_dir: Path) -> list[Path]:

@@ -1,0 +1,138 @@
+"""The bill of materials as a PDF: title block, a summary of each bank, its line items, provenance.
+
+It reads :class:`~bankbuild.results.BomLine` rows only (the pipeline merges identical parts and names the table
+row each came from); it does not invent items. reportlab is imported inside the functions.
+"""
+
+from __future__ import annotations
+
+from ..results import BankResult, BomLine, ProjectResult
+from .pdf_blocks import cautions_box, gap, grid, key_values, provenance_block, section_break, title_block
+from .pdf_common import P, build_pdf, frame_for, gnum, num
+
+DOC_TITLE = "Bill of materials"
+
+
+def need_text(bank: BankResult) -> str:
+    """How the need was stated, in one line."""
+    need = bank.need
+    if need.form == "kvar":
+        return f"{num(need.required_kvar, 1, 'kvar')} (given)"
+    source = "load list" if need.form == "loads" else "stated load"
+    text = (f"{num(need.required_kvar, 1, 'kvar')}: {num(need.active_kw, 1, 'kW')} ({source}) from PF "
+            f"{need.pf_present:.3f} to {need.pf_target:.3f}")
+    if need.pf_corrected is not None:
+        text += f"; PF with the bank {need.pf_corrected:.3f}"
+    return text
+
+
+def supply_text(bank: BankResult) -> str:
+    """Supply voltage, frequency and transformer, in one line."""
+    text = f"{gnum(bank.supply_voltage_v)} V, {gnum(bank.frequency_hz)} Hz, three-phase"
+    if bank.transformer_kva:
+        text += f"; transformer {gnum(bank.transformer_kva)} kVA, {gnum(bank.transformer_z_pct)}% Z"
+    return text
+
+
+def steps_text(bank: BankResult) -> str:
+    """Step count and the kvar each step delivers at the supply."""
+    sizes = [num(s.kvar, 1) for s in bank.steps]
+    if len(bank.steps) == 1:
+        return f"fixed bank, one step of {sizes[0]} kvar"
+    return f"{len(bank.steps)} switched steps: " + " + ".join(sizes) + " kvar"
+
+
+def detuning_text(bank: BankResult) -> str:
+    """The detuning of the steps, or 'none'."""
+    if not bank.detuning_pct:
+        return "none (plain capacitor steps)"
+    first = next((s.detuning for s in bank.steps if s.detuning is not None), None)
+    text = f"{gnum(bank.detuning_pct)}% series reactor per step"
+    if first is not None:
+        text += f", tuned to {num(first.tuning_frequency_hz, 0, 'Hz')} (order {first.tuning_order:.2f})"
+    return text
+
+
+def bank_summary(bank: BankResult, width: float):
+    """The key figures of one bank as a label/value table."""
+    pairs = [
+        ("Supply", supply_text(bank)),
+        ("Need at the supply", need_text(bank)),
+        ("Delivered at the supply", f"{num(bank.delivered_kvar, 1, 'kvar')}"),
+        ("Capacitor units", f"rated {gnum(bank.capacitor_voltage_v)} V; nameplate total "
+                            f"{num(bank.rated_kvar, 1, 'kvar')}"),
+        ("Steps", steps_text(bank)),
+        ("Connection", bank.connection),
+        ("Detuning", detuning_text(bank)),
+        ("Currents", f"rated {num(bank.rated_current_a, 1, 'A')} (protection is sized on it); operating "
+                     f"{num(bank.line_current_a, 1, 'A')}"),
+        ("Capacitance", f"{num(bank.capacitance_uf_per_phase, 1, 'µF')} per leg ({bank.connection})"),
+        ("Main protection", f"{bank.main.device} {gnum(bank.main.device_rating_a)} A, disconnect "
+                            f"{gnum(bank.main.disconnect_rating_a)} A, conductor {bank.main.conductor}"),
+    ]
+    return key_values(pairs, width, key_share=0.24)
+
+
+def qty_text(line: BomLine) -> str:
+    """A quantity as counted (whole pieces) or measured (metres).
+
+    >>> qty_text(BomLine(item=1, qty=3.0, unit="pcs", category="c", description="d"))
+    '3 pcs'
+    >>> qty_text(BomLine(item=2, qty=12.5, unit="m", category="c", description="d"))
+    '12.5 m'
+    """
+    value = f"{line.qty:,.0f}" if float(line.qty).is_integer() else f"{line.qty:,.1f}"
+    return f"{value} {line.unit}"
+
+
+def source_text(line: BomLine) -> str:
+    """Where the line came from: table file and row, or '—' for items not picked from a table."""
+    if not line.table:
+        return "—"
+    return f"{line.table}, row {line.row}" if line.row is not None else line.table
+
+
+def items_table(lines: list[BomLine], width: float):
+    """The line items, with a header that repeats on every page."""
+    shares = (0.05, 0.08, 0.12, 0.40, 0.22, 0.13)
+    head = [P(h, "head") for h in ("Item", "Qty", "Category", "Description and ratings", "Table / row", "Notes")]
+    rows = [head]
+    for line in lines:
+        rows.append([P(str(line.item)), P(qty_text(line)), P(line.category), P(line.description),
+                     P(source_text(line), "small"), P(line.notes or "", "small")])
+    return grid(rows, [width * s for s in shares])
+
+
+def bank_section(index: int, total: int, bank: BankResult, width: float) -> list:
+    """Heading, summary and line items of one bank."""
+    story = [section_break(160), P(f"Bank {index} of {total}: {bank.name}", "h1"), bank_summary(bank, width),
+             gap(6), P("Line items", "h2")]
+    if bank.bom:
+        story.append(items_table(list(bank.bom), width))
+    else:
+        story.append(P("The results carry no line items for this bank: the parts list was not produced by this "
+                       "run. The step and protection figures above are in the protection worksheet.", "note"))
+    return story
+
+
+def bom_story(result: ProjectResult, width: float) -> list:
+    """Every flowable of the bill of materials, in order."""
+    story = title_block(result, DOC_TITLE, "Parts for quotation, with ratings and the table row each came from. "
+                                           "Generic descriptions: choose makes and models to these ratings.", width)
+    total = len(result.banks)
+    for i, bank in enumerate(result.banks, start=1):
+        story += bank_section(i, total, bank, width)
+    if result.bom and total > 1:
+        story += [section_break(160), P("All banks together", "h1"),
+                  P("Identical parts of every bank merged into one list.", "note"),
+                  items_table(list(result.bom), width)]
+    story += [gap(10), cautions_box(result.cautions, width), gap(8)]
+    story += provenance_block(result, width)
+    return story
+
+
+def bom_pdf(result: ProjectResult) -> bytes:
+    """The bill of materials of ``result`` as PDF bytes (US Letter for NEC, A4 for IEC)."""
+    author = result.project.get("prepared_by", "") or "bankbuild"
+    return build_pdf(lambda width: bom_story(result, width), frame_for(result, DOC_TITLE),
+                     result.provenance.rules, "Bill of materials for capacitor banks", author)

@@ -1,0 +1,256 @@
+"""The protection worksheet as a PDF: one section per bank that shows every sizing step so it can be checked.
+
+For each bank: the inputs; the units and currents of each step with the formula written out; then for the main
+incomer and each step every :class:`~bankbuild.results.SizingLine` as a row (what is sized, the formula with the
+numbers in it, the factor, the rule, the computed value, the standard rating chosen, pass / flag); detuning;
+discharge, resonance, voltage rise, inrush and reconnection (:mod:`.pdf_worksheet_system`); every check. The
+document ends with the cautions, the provenance and a sign-off block. reportlab is imported inside functions.
+"""
+
+from __future__ import annotations
+
+from ..results import BankResult, ProjectResult, SizingLine, Step
+from .pdf_blocks import (
+    cautions_box,
+    gap,
+    grid,
+    heading,
+    key_values,
+    provenance_block,
+    section_break,
+    title_block,
+    verdict,
+)
+from .pdf_bom import detuning_text, need_text, steps_text, supply_text
+from .pdf_common import FONT, INK, PM, P, build_pdf, frame_for, gnum, num, para_text
+from .pdf_worksheet_assembly import assembly_sections
+from .pdf_worksheet_system import system_sections
+
+DOC_TITLE = "Protection worksheet"
+SIZING_SHARES = (0.11, 0.24, 0.07, 0.20, 0.10, 0.20, 0.08)
+
+
+def need_formula(bank: BankResult) -> str:
+    """The need worked out, with the numbers substituted."""
+    need = bank.need
+    if need.form == "kvar":
+        return f"given: Q_c = {num(need.required_kvar, 1, 'kvar')}"
+    if need.form == "power":
+        return (f"Q_c = P·(tan φ1 − tan φ2) = {num(need.active_kw, 1, 'kW')} × (tan(arccos {need.pf_present:.3f})"
+                f" − tan(arccos {need.pf_target:.3f})) = {num(need.required_kvar, 1, 'kvar')}")
+    return (f"loads summed: P = {num(need.active_kw, 1, 'kW')}, Q = {num(need.reactive_kvar, 1, 'kvar')} "
+            f"(PF {need.pf_present:.3f}); Q_c = Q − P·tan(arccos {need.pf_target:.3f}) = "
+            f"{num(need.required_kvar, 1, 'kvar')}")
+
+
+def inputs_table(bank: BankResult, rules_edition: str, width: float):
+    """What the bank was sized from."""
+    main = bank.main
+    factors = "; ".join(f"{line.item.lower()} × {gnum(line.factor)}" for line in main.sizing if line.factor != 1.0)
+    pairs = [
+        ("Rule basis", f"{bank.rules.upper()}: {rules_edition}"),
+        ("Supply", supply_text(bank)),
+        ("Connection", bank.connection),
+        ("Need", need_text(bank)),
+        ("Need worked out", need_formula(bank)),
+        ("Steps", steps_text(bank) + "; target per step " + ", ".join(num(s.target_kvar, 1) for s in bank.steps)
+         + " kvar"),
+        ("Detuning", detuning_text(bank)),
+        ("Capacitor units", f"rated {gnum(bank.capacitor_voltage_v)} V (the unit table's ratings)"),
+        ("Protective device", f"{main.device}; multipliers on the design current: {factors or '—'}"),
+    ]
+    return key_values(pairs, width, key_share=0.2)
+
+
+def delivered_formula(step: Step, bank: BankResult) -> str:
+    """Q at the supply = Σ Q_r·(V_s/V_r)²·(f_s/f_r)/(1 − p), written out for one step."""
+    if not step.units:
+        return "no units"
+    unit = step.units[0]
+    terms = f"({gnum(bank.supply_voltage_v)}/{gnum(unit.rated_voltage_v)})²"
+    if unit.rated_frequency_hz != bank.frequency_hz:
+        terms += f" × ({gnum(bank.frequency_hz)}/{gnum(unit.rated_frequency_hz)})"
+    if bank.detuning_pct:
+        terms += f" ÷ (1 − {gnum(bank.detuning_pct / 100)})"
+    return f"{gnum(step.rated_kvar)} × {terms} = {num(step.kvar, 1, 'kvar')}"
+
+
+def capacitance_formula(step: Step, bank: BankResult) -> str:
+    """C per leg from the nameplate: delta Q/(3ωV²), wye Q/(ωV²), ω = 2πf."""
+    if not step.units:
+        return "—"
+    unit = step.units[0]
+    three = "3 × " if bank.connection == "delta" else ""
+    return (f"{gnum(step.rated_kvar)} kvar / ({three}2π·{gnum(unit.rated_frequency_hz)} × "
+            f"({gnum(unit.rated_voltage_v)} V)²) = {num(step.capacitance_uf_per_leg, 1, 'µF')}")
+
+
+def units_table(bank: BankResult, width: float):
+    """Units, delivered kvar and currents of each step, each figure with its formula."""
+    head = [P(h, "head") for h in ("Step", "Units (qty × table id)", "Delivered at the supply",
+                                   "Rated current I = Q_r / (√3·V_r)", "Operating current", "Capacitance per leg")]
+    rows = [head]
+    for step in bank.steps:
+        units = " + ".join(f"{u.qty} × {u.id}" for u in step.units)
+        rated = (f"{gnum(step.rated_kvar)} kvar / (√3 × {gnum(bank.capacitor_voltage_v)} V) = "
+                 f"{num(step.rated_current_a, 1, 'A')}")
+        operating = (f"{num(step.kvar, 1)} kvar / (√3 × {gnum(bank.supply_voltage_v)} V) = "
+                     f"{num(step.line_current_a, 1, 'A')}")
+        rows.append([P(str(step.index)), P(units), P(delivered_formula(step, bank)), P(rated), P(operating),
+                     P(capacitance_formula(step, bank))])
+    total = (f"{num(bank.rated_kvar, 1)} kvar / (√3 × {gnum(bank.capacitor_voltage_v)} V) = "
+             f"{num(bank.rated_current_a, 1, 'A')}")
+    rows.append([P("All", "cell_bold"), P(f"nameplate {num(bank.rated_kvar, 1, 'kvar')}"),
+                 P(f"{num(bank.delivered_kvar, 1, 'kvar')} (need {num(bank.required_kvar, 1, 'kvar')})",
+                   "cell_bold"),
+                 P(total), P(f"{num(bank.delivered_kvar, 1)} kvar / (√3 × {gnum(bank.supply_voltage_v)} V) = "
+                             f"{num(bank.line_current_a, 1, 'A')}"),
+                 P(f"{num(bank.capacitance_uf_per_phase, 1, 'µF')}")])
+    shares = (0.06, 0.2, 0.19, 0.19, 0.18, 0.18)
+    return grid(rows, [width * s for s in shares])
+
+
+def units_note(bank: BankResult) -> str:
+    """Ratings shared by every unit of the bank, and what the symbols stand for."""
+    first = next((u for s in bank.steps for u in s.units), None)
+    if first is None:
+        return "No units were selected."
+    return (f"Units from {first.table}, rated {gnum(first.rated_voltage_v)} V, {gnum(first.rated_frequency_hz)} Hz; "
+            f"Q_r is the nameplate kvar of the step; C per leg = Q_r / (3·2πf·V_r²) in delta, Q_r / (2πf·V_r²) in "
+            "wye. Currents are "
+            "three-phase line currents, I = Q / (√3·V_LL). Protection is sized on the design current: the nameplate "
+            "(rated) current, or the operating current where that is higher.")
+
+
+def detuning_table(bank: BankResult, width: float):
+    """Reactor figures of each detuned step, or None when the bank is not detuned."""
+    detuned = [s for s in bank.steps if s.detuning is not None]
+    if not detuned:
+        return None
+    head = [P(h, "head") for h in ("Step", "p", "Tuning f_r = f₁/√p", "Capacitor voltage U/(1 − p)",
+                                   "Capacitor kvar at U", "Reactor L", "Reactor current")]
+    rows = [head]
+    for step in detuned:
+        d = step.detuning
+        p = d.tuning_pct / 100
+        rows.append([P(str(step.index)), P(f"{gnum(d.tuning_pct)}%"),
+                     P(f"{gnum(bank.frequency_hz)} Hz / √{gnum(p)} = {num(d.tuning_frequency_hz, 1, 'Hz')} "
+                       f"(order {d.tuning_order:.2f})"),
+                     P(f"{gnum(bank.supply_voltage_v)} V / (1 − {gnum(p)}) = {num(d.capacitor_voltage_v, 1, 'V')}"),
+                     P(num(d.capacitor_kvar_at_supply, 1, "kvar")), P(num(d.reactor_inductance_mh, 3, "mH")),
+                     P(num(d.reactor_current_a, 1, "A"))])
+    shares = (0.06, 0.07, 0.22, 0.22, 0.14, 0.14, 0.15)
+    return grid(rows, [width * s for s in shares])
+
+
+def sizing_row(line: SizingLine) -> list:
+    """One worksheet row from one sizing line."""
+    chosen = para_text(line.chosen)
+    if line.note:
+        chosen += f'<br/><font name="{FONT}" size="6.6"><i>{para_text(line.note)}</i></font>'
+    return [P(line.item, "cell_bold"), P(line.formula), P(f"× {gnum(line.factor)}"), P(line.rule, "small"),
+            P(num(line.required_a, 1, "A"), "cell_right"), PM(chosen), verdict(line.ok)]
+
+
+def design_current_text(rated_a: float, operating_a: float, design_a: float) -> str:
+    """Which current the circuit is sized on, and why."""
+    which = "rated current" if rated_a >= operating_a else "operating current (above rated)"
+    return (f"design current {num(design_a, 1, 'A')} = the larger of rated {num(rated_a, 1, 'A')} and operating "
+            f"{num(operating_a, 1, 'A')}: the {which}")
+
+
+def sizing_table(bank: BankResult, width: float):
+    """Every sizing line of the main incomer and of each step; band rows name the circuit and its current."""
+    head = [P(h, "head") for h in ("What is sized", "Formula, numbers substituted", "Factor", "Rule it follows",
+                                   "Computed", "Standard rating chosen", "Result")]
+    rows = [head]
+    bands = []
+    main = bank.main
+    bands.append(len(rows))
+    rows.append([PM(f"<b>Main incomer</b> — {para_text(design_current_text(main.rated_current_a, bank.line_current_a, main.design_current_a))}"),  # noqa: E501
+                 "", "", "", "", "", ""])
+    rows += [sizing_row(line) for line in main.sizing]
+    for step in bank.steps:
+        bands.append(len(rows))
+        design = max(step.rated_current_a, step.line_current_a)
+        rows.append([PM(f"<b>Step {step.index}</b> ({para_text(num(step.kvar, 1, 'kvar'))}) — "
+                        f"{para_text(design_current_text(step.rated_current_a, step.line_current_a, design))}"),
+                     "", "", "", "", "", ""])
+        rows += [sizing_row(line) for line in step.sizing]
+    return grid(rows, [width * s for s in SIZING_SHARES], spans=bands)
+
+
+def checks_table(bank: BankResult, width: float):
+    """Every check and flag of the bank."""
+    head = [P(h, "head") for h in ("Check", "What was found", "Rule", "Result")]
+    rows = [head]
+    for check in bank.checks:
+        word = "note" if check.level == "info" else ("caution" if check.level == "caution" else "pass")
+        rows.append([P(check.name, "cell_bold"), P(check.detail), P(check.rule or "—", "small"),
+                     verdict(check.ok, passed=word)])
+    shares = (0.22, 0.44, 0.25, 0.09)
+    return grid(rows, [width * s for s in shares])
+
+
+def bank_section(index: int, total: int, bank: BankResult, result: ProjectResult, width: float) -> list:
+    """All of one bank's worksheet."""
+    story = heading(f"Bank {index} of {total}: {bank.name}", "h1", 220)
+    story += [P("1. Inputs", "h2"), inputs_table(bank, result.provenance.edition, width)]
+    story += heading("2. Capacitor units and currents") + [units_table(bank, width), P(units_note(bank), "note")]
+    detuned = detuning_table(bank, width)
+    if detuned is not None:
+        story += heading("3. Detuning reactors") + [detuned,
+                  P("A step tuned below the 5th harmonic is inductive at the 5th and above, so it cannot form a "
+                    "parallel resonance there with the supply. Reactor data are for ordering; take the maker's "
+                    "linearity and thermal current figures.", "note")]
+    story += heading(f"{4 if detuned is not None else 3}. Protection sizing, main incomer and each step", "h2",
+                     140)
+    story += [sizing_table(bank, width),
+              P("Each multiplier is typical practice applied to the design current; the rule column names the "
+                "clause it follows. The computed value is the least rating allowed; the chosen rating is the next "
+                "standard one in the rating table.", "note")]
+    number = 5 if detuned is not None else 4
+    story += system_sections(bank, width, number)
+    story += assembly_sections(bank, width)
+    story += heading(f"{number + 2}. All checks of this bank") + [checks_table(bank, width)]
+    return story
+
+
+def sign_off(result: ProjectResult, width: float):
+    """Prepared / checked / approved, each with a name, a signature line and a date line."""
+    from reportlab.lib.colors import Color
+    from reportlab.platypus import KeepTogether, TableStyle
+
+    project = result.project
+    rows = [[P(h, "head") for h in ("Role", "Name", "Signature", "Date")]]
+    for role, key in (("Prepared by", "prepared_by"), ("Checked by", "checked_by"), ("Approved by", "")):
+        rows.append([P(role, "cell_bold"), P(project.get(key, "") if key else ""), "", ""])
+    table = grid(rows, [width * s for s in (0.16, 0.34, 0.32, 0.18)], zebra=False,
+                 row_heights=[None] + [34.0] * 3)
+    table.setStyle(TableStyle([("LINEBELOW", (2, 1), (3, -1), 0.6, Color(*INK)),
+                               ("VALIGN", (0, 1), (-1, -1), "MIDDLE")]))
+    return KeepTogether([P("Sign-off", "h2"),
+                         P("Signatures confirm that the figures were checked against the local code and the "
+                           "equipment makers' data; they are not made by this program.", "note"), table])
+
+
+def worksheet_story(result: ProjectResult, width: float) -> list:
+    """Every flowable of the protection worksheet, in order."""
+    story = title_block(result, DOC_TITLE, "Inputs, every sizing step with its formula, factor, rule and chosen "
+                                           "rating, discharge and system checks — for review by the authority "
+                                           "having jurisdiction.", width)
+    story += [cautions_box(result.cautions[:3], width, "Before you rely on these figures"), gap(4)]
+    total = len(result.banks)
+    for i, bank in enumerate(result.banks, start=1):
+        story += bank_section(i, total, bank, result, width)
+    story += [section_break(200), gap(6), cautions_box(result.cautions, width), gap(8)]
+    story += provenance_block(result, width)
+    story += [gap(10), sign_off(result, width)]
+    return story
+
+
+def worksheet_pdf(result: ProjectResult) -> bytes:
+    """The protection worksheet of ``result`` as PDF bytes (US Letter for NEC, A4 for IEC)."""
+    author = result.project.get("prepared_by", "") or "bankbuild"
+    return build_pdf(lambda width: worksheet_story(result, width), frame_for(result, DOC_TITLE),
+                     result.provenance.rules, "Protection worksheet for capacitor banks", author)

@@ -1,0 +1,107 @@
+"""Worksheet sections for the assembly figures, shown when the results carry them: the contactor and inrush of
+each step, the detuning reactor picked for each step, reconnection delay, controller and control circuit, and
+enclosure heat and ventilation.
+
+Every field is read with ``getattr`` so that the worksheet renders results with or without these figures.
+"""
+
+from __future__ import annotations
+
+from ..results import BankResult
+from .pdf_blocks import grid, heading, key_values, verdict
+from .pdf_common import P, num
+from .pdf_figures import model_pairs
+
+
+def pick_text(pick) -> str:
+    """A picked rating with its table row, or a plain statement that none fits."""
+    if pick is None:
+        return "none in the table: made to order"
+    return f"{pick.designation} ({pick.table}, row {pick.row})"
+
+
+def _amps(value) -> str:
+    return num(value, 0, "A") if value is not None else "—"
+
+
+def switching_table(bank: BankResult, width: float):
+    """The contactor and switching inrush of each step, or None when the results carry none."""
+    steps = [s for s in bank.steps if getattr(s, "switching", None) is not None]
+    if not steps:
+        return None
+    head = [P(h, "head") for h in ("Step", "Capacitor-duty contactor", "Needed / rated current",
+                                   "Energising peak", "Back-to-back peak", "Limit (capacitor, contactor)",
+                                   "Damping", "Result")]
+    rows = [head]
+    for step in steps:
+        sw = step.switching
+        limit = min(getattr(sw, "capacitor_limit_a", float("inf")), getattr(sw, "contactor_limit_a", float("inf")))
+        peaks = [v for v in (getattr(sw, "energising_peak_a", None), getattr(sw, "back_to_back_peak_a", None))
+                 if v is not None]
+        within = all(v <= limit for v in peaks)
+        damped = getattr(sw, "damping", "none") != "none"
+        ok = getattr(sw, "contactor", None) is not None and (within or damped)
+        damping = getattr(sw, "damping", "—")
+        extra = getattr(sw, "damping_reactor_uh", None)
+        if extra:
+            damping += f"; add {num(extra, 1, 'µH')} per phase"
+        rows.append([
+            P(str(step.index)), P(pick_text(getattr(sw, "contactor", None))),
+            P(f"{_amps(getattr(sw, 'required_current_a', None))} / {_amps(getattr(sw, 'contactor_current_a', None))}"),
+            P(_amps(getattr(sw, "energising_peak_a", None))), P(_amps(getattr(sw, "back_to_back_peak_a", None))),
+            P(f"{_amps(getattr(sw, 'capacitor_limit_a', None))}, {_amps(getattr(sw, 'contactor_limit_a', None))}"),
+            P(damping), verdict(ok)])
+    shares = (0.06, 0.24, 0.13, 0.1, 0.1, 0.15, 0.14, 0.08)
+    return grid(rows, [width * s for s in shares])
+
+
+def reactor_table(bank: BankResult, width: float):
+    """The detuning reactor picked for each step, or None when the results carry none."""
+    steps = [s for s in bank.steps if getattr(s, "reactor", None) is not None]
+    if not steps:
+        return None
+    head = [P(h, "head") for h in ("Step", "Reactor", "L needed / used", "Current needed / rated",
+                                   "Tuned to", "Capacitor voltage (fund., rms)", "Unit rated", "Result")]
+    rows = [head]
+    for step in steps:
+        r = step.reactor
+        rows.append([
+            P(str(step.index)), P(pick_text(getattr(r, "reactor", None))),
+            P(f"{num(getattr(r, 'required_inductance_mh', None), 3)} / {num(getattr(r, 'inductance_mh', None), 3)} mH"),
+            P(f"{_amps(getattr(r, 'required_current_a', None))} / {_amps(getattr(r, 'current_rating_a', None))}"),
+            P(num(getattr(r, "actual_tuning_frequency_hz", None), 1, "Hz")),
+            P(f"{num(getattr(r, 'capacitor_voltage_v', None), 0)} V, "
+              f"{num(getattr(r, 'capacitor_voltage_rms_v', None), 0)} V"),
+            P(num(getattr(r, "unit_voltage_v", None), 0, "V")), verdict(bool(getattr(r, "voltage_ok", True)))])
+    shares = (0.06, 0.25, 0.13, 0.13, 0.1, 0.15, 0.1, 0.08)
+    return grid(rows, [width * s for s in shares])
+
+
+def _pairs(model, skip: tuple[str, ...] = ()) -> list[tuple[str, str]]:
+    data = {k: v for k, v in model.model_dump().items() if k not in skip}
+    return model_pairs(data)
+
+
+def assembly_sections(bank: BankResult, width: float) -> list:
+    """Every assembly section the results carry, each under its own heading; empty when there are none."""
+    story: list = []
+    table = switching_table(bank, width)
+    if table is not None:
+        story += heading("Contactors and switching inrush, per step") + [
+            table, P("Peaks are estimates (energising: √2·√(I_sc·I₁); back-to-back from the loop inductance). "
+                     "A step is flagged when its peak exceeds the lower limit and no damping is fitted.", "note")]
+    inrush = getattr(bank, "inrush", None)
+    if inrush is not None:
+        story += heading("Inrush of the bank", "h2", 80) + [key_values(_pairs(inrush), width, key_share=0.35)]
+    table = reactor_table(bank, width)
+    if table is not None:
+        story += heading("Detuning reactors picked, per step") + [table]
+    control = getattr(bank, "control", None)
+    if control is not None:
+        story += heading("Controller and control circuit", "h2", 80) + [
+            key_values(_pairs(control), width, key_share=0.35)]
+    enclosure = getattr(bank, "enclosure", None)
+    if enclosure is not None:
+        story += heading("Enclosure heat and ventilation", "h2", 80) + [
+            key_values(_pairs(enclosure), width, key_share=0.35)]
+    return story
