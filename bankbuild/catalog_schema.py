@@ -33,6 +33,7 @@ class Column:
     allowed: tuple[str | float, ...] = ()
     pattern: str = ""
     required: bool = True
+    max_length: int = 200  # text cells: longer text is refused (it ends up on documents)
 
 
 @dataclass(frozen=True)
@@ -249,6 +250,10 @@ def fmt(value: Any) -> str:
     return f"'{value}'" if isinstance(value, str) else str(value)
 
 
+# Control characters, and direction overrides that make printed text read differently from what it holds.
+CONTROL_CHARS = "[\x00-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]"
+
+
 def cell_problems(column: Column, cells: Any) -> list[tuple[int, str]]:
     """(line, problem) for the first bad cell of each check in one column (a pandas Series of text)."""
     import pandas as pd
@@ -265,6 +270,10 @@ def cell_problems(column: Column, cells: Any) -> list[tuple[int, str]]:
         first(empty, lambda n: "empty cell; a value is required")
     filled = ~empty
     if column.dtype is str:
+        first(filled & cells.str.len().gt(column.max_length),
+              lambda n: f"text of {len(cells[n]):,} characters; at most {column.max_length} are allowed")
+        first(filled & cells.str.contains(CONTROL_CHARS, regex=True),
+              lambda n: "holds a control character; use printable text only")
         if column.allowed:
             allowed = ", ".join(map(str, column.allowed))
             first(filled & ~cells.isin(column.allowed), lambda n: f"{fmt(cells[n])} is not one of {allowed}")

@@ -54,6 +54,9 @@ __all__ = [
 ]
 
 
+MAX_TABLE_BYTES = 4 * 1024 * 1024  # ample for tens of thousands of rows; refuses a runaway or hostile file
+
+
 @dataclass(frozen=True)
 class TableInfo:
     """Provenance of one table file: its name, where it was read, the SHA-256 of its bytes, its notes."""
@@ -113,9 +116,12 @@ def _read_text(path: Path) -> tuple[bytes, str]:
     if not path.is_file():
         raise _fail(path, "not a regular file")
     try:
-        data = path.read_bytes()
+        with path.open("rb") as handle:  # at most one byte past the limit, whatever the file claims
+            data = handle.read(MAX_TABLE_BYTES + 1)
     except OSError as exc:
         raise _fail(path, f"cannot be read ({exc.strerror or exc})") from None
+    if len(data) > MAX_TABLE_BYTES:
+        raise _fail(path, f"over {MAX_TABLE_BYTES:,} bytes; a rating table may be at most that large")
     if not data.strip():
         raise _fail(path, "the file is empty; expected # comment lines, a header row and data rows")
     if b"\0" in data:
@@ -162,6 +168,10 @@ def _split(path: Path, text: str) -> tuple[list[str], int, list[str], list[tuple
 
 def _check_header(path: Path, schema: TableSchema, line: int, names: list[str]) -> None:
     expected = ", ".join(schema.names)
+    for sep, label in ((";", "semicolons"), ("\t", "tabs")):
+        if len(names) == 1 and sep in names[0]:  # a spreadsheet set to another locale, or a pasted TSV
+            raise _fail(path, f"the header is separated by {label}; save the table as CSV with commas "
+                              f"(expected {expected})", line)
     for name in names:
         if names.count(name) > 1:
             raise _fail(path, f"column '{name}' appears more than once; expected {expected}", line, name)

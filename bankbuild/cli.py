@@ -137,6 +137,22 @@ def _dumps(data) -> str:
     return _json.dumps(data, indent=2, ensure_ascii=False)
 
 
+def _one_line(message: str, limit: int = 600) -> str:
+    """An error message made safe to print: control characters escaped, one line, bounded length.
+
+    The message may quote a file name or a value from a hostile file; it must not move the cursor, recolour
+    the terminal or spill over many lines.
+
+    >>> _one_line("spec.yaml: name: bad\\x1b[31m\\nnext")
+    'spec.yaml: name: bad\\\\x1b[31m\\\\nnext'
+    """
+    import unicodedata
+
+    out = "".join(char if char == " " or unicodedata.category(char)[0] not in "CZ" or char == "\u00a0"
+                  else char.encode("unicode_escape").decode("ascii") for char in message)
+    return out if len(out) <= limit else out[: limit - 1] + "…"
+
+
 def run(argv: list[str] | None = None) -> int:
     """Run the app and turn every expected failure into one line on stderr and exit code 2."""
     from typer.exceptions import Abort, TyperException
@@ -145,7 +161,7 @@ def run(argv: list[str] | None = None) -> int:
     try:
         code = command.main(args=argv, prog_name="bankbuild", standalone_mode=False)
     except BankbuildError as exc:
-        typer.echo(f"bankbuild: error: {exc.line()}", err=True)
+        typer.echo(f"bankbuild: error: {_one_line(exc.line())}", err=True)
         return 2
     except TyperException as exc:  # usage errors of the command line (bad option, missing argument, …)
         ctx = getattr(exc, "ctx", None)
@@ -153,7 +169,7 @@ def run(argv: list[str] | None = None) -> int:
             typer.echo(ctx.get_help())
             return 0
         sub = ctx.command_path if ctx is not None else "bankbuild"
-        typer.echo(f"bankbuild: error: {exc.format_message()} (see '{sub} --help')", err=True)
+        typer.echo(f"bankbuild: error: {_one_line(exc.format_message())} (see '{sub} --help')", err=True)
         return getattr(exc, "exit_code", 2)
     except Abort:
         typer.echo("bankbuild: stopped", err=True)

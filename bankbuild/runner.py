@@ -23,12 +23,35 @@ def spec_catalogs_dir(spec_file) -> Path | None:
     if value is None:
         return None
     base = spec_file.base_dir
-    target = (base / value).resolve()
+    try:
+        target = (base / value).resolve()
+    except (OSError, ValueError) as exc:  # a NUL byte, a name too long, a link loop
+        raise SpecError(spec_file.path, "catalogs", f"not a usable folder name ({exc})") from None
     if Path(value).is_absolute() or not target.is_relative_to(base):
         raise SpecError(spec_file.path, "catalogs",
                         f"{value!r} points outside the spec's folder; keep user tables beside the spec, or "
                         "pass --catalogs on the command line")
+    if not target.exists():
+        raise SpecError(spec_file.path, "catalogs", f"folder {value!r} not found (looked for {target})")
+    if not target.is_dir():
+        raise SpecError(spec_file.path, "catalogs", f"{value!r} is not a folder; give the folder that holds the "
+                                                    "rating tables")
+    _tables_stay_inside(spec_file, target, base)
     return target
+
+
+def _tables_stay_inside(spec_file, folder: Path, base: Path) -> None:
+    """A table file in the spec's folder must not be a link to a file elsewhere (the spec may come from
+    someone else; only a path the user types may reach outside the spec's folder)."""
+    try:
+        entries = sorted(folder.iterdir()) if folder.is_dir() else []
+        for entry in entries:
+            if entry.suffix.lower() == ".csv" and not entry.resolve().is_relative_to(base):
+                raise SpecError(spec_file.path, "catalogs",
+                                f"{entry.name} in {spec_file.spec.catalogs!r} links to a file outside the spec's "
+                                "folder; copy the table in, or pass --catalogs on the command line")
+    except OSError as exc:
+        raise SpecError(spec_file.path, "catalogs", f"cannot read the folder ({exc.strerror or exc})") from None
 
 
 def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | None = None):

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import hashlib
 from dataclasses import dataclass
 from pathlib import Path
@@ -35,74 +36,185 @@ def read_spec(path: str | Path) -> SpecFile:
 
 
 def _read_bytes(path: Path, where: str) -> bytes:
-    if not path.exists():
-        raise SpecError(where, "", "no such file")
-    if path.is_dir():
-        raise SpecError(where, "", "is a folder, not a spec file")
     try:
+        if not path.exists():
+            raise SpecError(where, "", "no such file")
+        if path.is_dir():
+            raise SpecError(where, "", "is a folder, not a spec file")
+        if not path.is_file():
+            raise SpecError(where, "", "is not a regular file (a device, pipe or socket); give a YAML file")
         size = path.stat().st_size
         if size > MAX_SPEC_BYTES:
             raise SpecError(where, "", f"file is {size:,} bytes; a spec may be at most {MAX_SPEC_BYTES:,} bytes")
-        raw = path.read_bytes()
+        with path.open("rb") as handle:  # read at most one byte past the limit, whatever stat said
+            raw = handle.read(MAX_SPEC_BYTES + 1)
     except OSError as exc:
         raise SpecError(where, "", f"cannot read the file ({exc.strerror or exc})") from None
+    except ValueError as exc:  # a path with a NUL byte in it
+        raise SpecError(where, "", f"not a usable file name ({exc})") from None
+    if len(raw) > MAX_SPEC_BYTES:
+        raise SpecError(where, "", f"file is over {MAX_SPEC_BYTES:,} bytes, the most a spec may be")
     if b"\x00" in raw:
         raise SpecError(where, "", "is a binary file, not YAML text")
     return raw
 
 
+@functools.lru_cache(maxsize=1)
+def _yaml_loader():
+    """The safe loader (its C build, libyaml, where installed: same rules, many times faster), adapted.
+
+    Dates stay text (a date in a spec is a title-block field, and ``2026-13-45`` must not crash the
+    reader), and a number too long to convert is a YAML error with its line, not a crash.
+    """
+    import yaml
+
+    base = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+    class SpecLoader(base):  # type: ignore[misc, valid-type]
+        pass
+
+    stamp = "tag:yaml.org,2002:timestamp"
+    SpecLoader.yaml_implicit_resolvers = {
+        first: [(tag, rx) for tag, rx in resolvers if tag != stamp]
+        for first, resolvers in base.yaml_implicit_resolvers.items()}
+
+    def construct_int(loader, node):
+        try:
+            return base.construct_yaml_int(loader, node)
+        except ValueError:
+            raise yaml.constructor.ConstructorError(
+                None, None, f"a number of {len(node.value):,} characters is too long", node.start_mark) from None
+
+    SpecLoader.add_constructor("tag:yaml.org,2002:int", construct_int)
+    return SpecLoader
+
+
+def _yaml_problem(exc: Exception, where: str) -> SpecError:
+    mark = getattr(exc, "problem_mark", None)
+    at = f"line {mark.line + 1}, column {mark.column + 1}" if mark else ""
+    problem = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+    return SpecError(where, at, f"not valid YAML ({problem})")
+
+
 def parse_yaml(raw: bytes, where: str) -> Any:
-    """Parse YAML text safely: no object construction, aliases refused, depth and size bounded."""
+    """Parse YAML text safely: no object construction, aliases refused, depth and size bounded.
+
+    The event stream is scanned first (no objects built, stopped at the first problem), so that alias
+    bombs, deep nesting and huge documents are refused in a fraction of a second; only then is the text
+    loaded with the safe loader, which builds plain mappings, lists, text and numbers only.
+    """
     import yaml
 
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
-        raise SpecError(where, "", f"is not UTF-8 text (byte {exc.start})") from None
+        line = raw[: exc.start].count(b"\n") + 1
+        raise SpecError(where, f"line {line}", f"is not UTF-8 text (byte {exc.start}); save it as UTF-8") from None
     try:
-        root = yaml.compose(text, Loader=yaml.SafeLoader)
+        nodes = _scan_events(text, where)
     except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        at = f"line {mark.line + 1}, column {mark.column + 1}" if mark else ""
-        problem = getattr(exc, "problem", None) or str(exc).splitlines()[0]
-        raise SpecError(where, at, f"not valid YAML ({problem})") from None
-    if root is None:
+        raise _yaml_problem(exc, where) from None
+    if nodes == 0:
         raise SpecError(where, "", "the file is empty: a spec needs at least 'banks'")
-    _check_tree(root, where)
     try:
-        data = yaml.load(text, Loader=yaml.SafeLoader)  # noqa: S506 - SafeLoader, checked tree above
+        data = yaml.load(text, Loader=_yaml_loader())  # noqa: S506 - a safe loader, events checked above
     except yaml.YAMLError as exc:
-        raise SpecError(where, "", f"not valid YAML ({str(exc).splitlines()[0]})") from None
+        raise _yaml_problem(exc, where) from None
+    except (ValueError, OverflowError) as exc:  # e.g. a 5,000-digit number or a date like 2026-13-45
+        shown = str(exc).split(":")[0][:80]
+        raise SpecError(where, "", f"a value cannot be read ({shown})") from None
     if not isinstance(data, dict):
         raise SpecError(where, "", f"the top level must be a mapping of keys, not {type(data).__name__}")
+    _check_text(data, where)
     return data
 
 
-def _check_tree(root: Any, where: str) -> None:
-    """Walk the composed node tree: refuse aliases (no expansion bombs), deep nesting and huge documents."""
+# Bidirectional overrides and isolates can make text on a document read differently from what it holds.
+_BIDI = frozenset("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
+
+
+def _bad_char(text: str) -> str | None:
+    """The first control or direction-override character in ``text`` (as ``U+001B``), or None."""
+    import unicodedata
+
+    for char in text:
+        if char in _BIDI or unicodedata.category(char) == "Cc":
+            return f"U+{ord(char):04X}"
+    return None
+
+
+def _check_text(data: Any, where: str) -> None:
+    """Refuse keys that are not text, and control characters in any key or text value.
+
+    A spec's text ends up on a terminal and in documents: an escape sequence could rewrite the terminal,
+    and a direction override could make a printed name read differently from what it is.
+    """
+    stack: list[tuple[Any, tuple]] = [(data, ())]
+    while stack:
+        node, loc = stack.pop()
+        if isinstance(node, dict):
+            for key, value in node.items():
+                if not isinstance(key, str):
+                    raise SpecError(where, field_path(loc, data) if loc else "",
+                                    f"key {key!r} is not a name; keys are words like voltage_v")
+                bad = _bad_char(key)
+                if bad:
+                    raise SpecError(where, field_path(loc, data) if loc else "",
+                                    f"a key holds the control character {bad}; keys are words like voltage_v")
+                stack.append((value, (*loc, key)))
+        elif isinstance(node, list):
+            stack.extend((item, (*loc, i)) for i, item in enumerate(node))
+        elif isinstance(node, str):
+            bad = _bad_char(node)
+            if bad:
+                raise SpecError(where, field_path(loc, data),
+                                f"text holds the control character {bad}; use printable characters only")
+
+
+def _scan_events(text: str, where: str) -> int:
+    """Walk the YAML events without building anything; return the number of nodes.
+
+    Refuses aliases (no expansion bombs), nesting deeper than :data:`MAX_DEPTH`, more than :data:`MAX_NODES`
+    nodes, keys that are not plain scalars, and a key given twice in one mapping (YAML would silently keep
+    the last one, so a typo'd duplicate would hide the first value).
+    """
     import yaml
 
-    stack = [(root, 1)]
-    seen = 0
-    anchors: set[int] = set()
-    while stack:
-        node, depth = stack.pop()
-        seen += 1
-        if seen > MAX_NODES:
-            raise SpecError(where, "", f"the document has more than {MAX_NODES:,} entries")
-        if depth > MAX_DEPTH:
-            line = node.start_mark.line + 1
-            raise SpecError(where, f"line {line}", f"nested more than {MAX_DEPTH} levels deep")
-        if id(node) in anchors:
-            line = node.start_mark.line + 1
-            raise SpecError(where, f"line {line}", "YAML aliases (*name) are not accepted in a spec")
-        anchors.add(id(node))
-        if isinstance(node, yaml.MappingNode):
-            for key, value in node.value:
-                stack.append((key, depth + 1))
-                stack.append((value, depth + 1))
-        elif isinstance(node, yaml.SequenceNode):
-            stack.extend((child, depth + 1) for child in node.value)
+    frames: list[list] = []  # per open collection: [is_mapping, expecting_key, keys seen]
+    nodes = 0
+
+    def line_of(event) -> str:
+        return f"line {event.start_mark.line + 1}"
+
+    def finished() -> None:  # a whole node (scalar or collection) is complete at the current level
+        if frames and frames[-1][0]:
+            frames[-1][1] = not frames[-1][1]
+
+    for event in yaml.parse(text, Loader=_yaml_loader()):
+        if isinstance(event, yaml.AliasEvent):
+            raise SpecError(where, line_of(event), "YAML aliases (*name) are not accepted in a spec")
+        if isinstance(event, (yaml.ScalarEvent, yaml.MappingStartEvent, yaml.SequenceStartEvent)):
+            nodes += 1
+            if nodes > MAX_NODES:
+                raise SpecError(where, line_of(event), f"the document has more than {MAX_NODES:,} entries")
+            is_key = bool(frames) and frames[-1][0] and frames[-1][1]
+            if isinstance(event, yaml.ScalarEvent):
+                if is_key:
+                    if event.value in frames[-1][2]:
+                        shown = event.value if len(event.value) <= 40 else event.value[:37] + "..."
+                        raise SpecError(where, line_of(event), f"key {shown!r} appears twice in the same mapping")
+                    frames[-1][2].add(event.value)
+                finished()
+                continue
+            if is_key:
+                raise SpecError(where, line_of(event), "a key must be a plain word, not a list or mapping")
+            if len(frames) >= MAX_DEPTH:
+                raise SpecError(where, line_of(event), f"nested more than {MAX_DEPTH} levels deep")
+            frames.append([isinstance(event, yaml.MappingStartEvent), True, set()])
+        elif isinstance(event, (yaml.MappingEndEvent, yaml.SequenceEndEvent)):
+            frames.pop()
+            finished()
+    return nodes
 
 
 def validate_spec(data: dict, where: str) -> Any:
@@ -143,7 +255,7 @@ def field_path(loc: tuple, data: Any = None) -> str:
             label = f"[{part}]"
             if isinstance(node, list) and part < len(node) and isinstance(node[part], dict):
                 name = node[part].get("name")
-                if isinstance(name, str) and name.strip() and out.endswith("banks"):
+                if isinstance(name, str) and name.strip() and out.endswith("banks") and not _bad_char(name):
                     label = f"[{part}] ({name[:40]})"
             out += label
             node = node[part] if isinstance(node, list) and part < len(node) else None
