@@ -8,6 +8,7 @@ from .calc import detuning as det
 from .calc import power as pw
 from .calc import system as sysc
 from .errors import SpecError
+from .existing import resolve_units
 from .models import Bank, Need, Spec
 from .protection import CircuitContext, size_circuit
 from .results import (
@@ -25,6 +26,7 @@ from .results import (
 )
 from .rules import CAUTIONS, discharge_for, rule_basis
 from .select import build_step, pick_unit_voltage, unit_voltages
+from .system_checks import system_figures
 
 HARMONICS = (5, 7, 11, 13)
 
@@ -96,21 +98,24 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
     checks: list[Check] = []
     need = need_summary(bank.need, v_s)
     required = need.required_kvar
-    if required <= 1e-9 and not isinstance(bank.steps, list):
+    if required <= 1e-9 and not isinstance(bank.steps, list) and bank.units is None:
         raise SpecError(where, f"{field}.need",
                         f"the present power factor ({need.pf_present:.3f}) already meets the target "
                         f"({need.pf_target}): nothing to correct; give explicit steps to size a bank anyway")
 
     units_all = catalogs.capacitor_units
+    given = resolve_units(bank, units_all, where, field) if bank.units is not None else None
     freqs = sorted({u.rated_frequency_hz for u in units_all}, key=lambda f: (abs(f - f_s), f))
-    f_r = freqs[0]
-    if f_r != f_s:
+    f_r = given.rated_frequency_hz if given else freqs[0]
+    if f_r != f_s and given is None:
         checks.append(Check(name="Unit frequency", ok=False, rule="unit rating table",
                             detail=f"no units rated for {f_s:g} Hz; {f_r:g} Hz units used and re-rated"))
     available = unit_voltages(units_all, f_r)
     v_cap_needed = det.capacitor_voltage_v(v_s, p) if p else v_s
     v_wanted = v_cap_needed * (1 + bank.voltage_margin_pct / 100)
-    if bank.capacitor_voltage_v is not None:
+    if given is not None:
+        v_r = given.rated_voltage_v
+    elif bank.capacitor_voltage_v is not None:
         if bank.capacitor_voltage_v not in available:
             shown = ", ".join(f"{v:g}" for v in available)
             raise SpecError(where, f"{field}.capacitor_voltage_v",
@@ -130,13 +135,16 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
     units = [u for u in units_all if u.rated_voltage_v == v_r and u.rated_frequency_hz == f_r]
     at_supply = cap.rerate_kvar(1.0, v_r, f_r, v_s, f_s)
     factor = det.detuned_kvar(at_supply, p) if p else at_supply
-    if factor < 0.5:
-        checks.append(Check(name="Unit under-voltage", ok=False, rule="re-rating (V/V_r)²",
-                            detail=f"units rated {v_r:g} V on {v_s:g} V deliver only {factor:.0%} of nameplate"))
 
     steps = []
-    for k, target in enumerate(step_targets(bank, required), start=1):
-        steps.append(_size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p))
+    if given is not None:
+        for k in range(len(given.steps)):
+            choice = given.choice(k, factor)
+            steps.append(_size_step(k + 1, choice.delivered_kvar, units, factor, bank, v_s, f_s, v_r, f_r, p,
+                                    choice))
+    else:
+        for k, target in enumerate(step_targets(bank, required), start=1):
+            steps.append(_size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p))
     delivered = sum(s.kvar for s in steps)
     rated_kvar = sum(s.rated_kvar for s in steps)
     if need.active_kw is not None:
@@ -180,6 +188,11 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
                                 f"{discharge.builtin_time_s:.0f} s")))
 
     resonance, rise = _system(bank, sized, checks, p)
+    system, system_checks = system_figures(
+        bank, sized, rules=spec.rules, v_r=v_r, f_r=f_r, rise_pct=rise, unit_rows=units, factor=factor,
+        available_v=available, rated_current_a=rated_current, main_conductor_ampacity_a=main.conductor_ampacity_a,
+        main_conductor=main.conductor, ctx=ctx)
+    checks.extend(system_checks)
     return BankResult(
         name=bank.name, rules=spec.rules, connection=bank.connection, supply_voltage_v=v_s, frequency_hz=f_s,
         transformer_kva=supply.transformer_kva, transformer_z_pct=supply.transformer_z_pct, need=need,
@@ -187,15 +200,15 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
         rated_current_a=rated_current, line_current_a=line_current,
         capacitance_uf_per_phase=cap.capacitance_uf_per_leg(rated_kvar, v_r, f_r, bank.connection),
         detuning_pct=bank.detuning_pct, steps=sized, main=main, discharge=discharge, resonance=resonance,
-        voltage_rise_pct=rise, checks=checks)
+        voltage_rise_pct=rise, checks=checks, system=system)
 
 
 def _basis_text(rated_a: float, line_a: float) -> str:
     return "rated current" if rated_a >= line_a else "operating current, above rated"
 
 
-def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p) -> Step:
-    choice = build_step(units, target, factor)
+def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p, choice=None) -> Step:
+    choice = choice or build_step(units, target, factor)
     lines = [UnitLine(id=u.unit_id, qty=c, rated_kvar=u.rated_kvar, rated_voltage_v=u.rated_voltage_v,
                       rated_frequency_hz=u.rated_frequency_hz, delivered_kvar_each=u.rated_kvar * factor,
                       table=u.table, row=u.row) for u, c in zip(choice.units, choice.counts, strict=True)]
@@ -229,17 +242,7 @@ def _system(bank: Bank, steps, checks: list[Check], p: float):
         near = None if p else sysc.near_harmonic(h, HARMONICS)
         points.append(ResonancePoint(steps=list(range(1, step.index + 1)), kvar=total, harmonic_order=h,
                                      near_harmonic=near))
-    flagged = [pt for pt in points if pt.near_harmonic]
-    if p:
-        checks.append(Check(name="Resonance", ok=True, rule="detuned steps",
-                            detail=f"detuned at {det.tuning_order(p):.2f}: each step is inductive above "
-                                   f"{det.tuning_frequency_hz(supply.frequency_hz, p):.0f} Hz"))
-    else:
-        detail = "; ".join(f"steps 1–{pt.steps[-1]} ({pt.kvar:.0f} kvar): h = {pt.harmonic_order:.2f}, near "
-                           f"the {pt.near_harmonic}th" for pt in flagged) or \
-            f"h from {points[-1].harmonic_order:.2f} to {points[0].harmonic_order:.2f}, clear of 5/7/11/13"
-        checks.append(Check(name="Resonance", ok=not flagged, rule="h = √(S_sc / Q)",
-                            detail=detail + ("; consider detuning reactors" if flagged else "")))
+    # the resonance check (every step combination, detuned or not) is in system_checks
     rise = sysc.voltage_rise_pct(total, supply.transformer_kva, supply.transformer_z_pct)
     checks.append(Check(name="Voltage rise at light load", ok=rise <= 3.0, rule="ΔV% ≈ Q·Z%/kVA",
                         detail=f"{rise:.2f}% with all {total:.0f} kvar on (flag above 3%, common practice)"))

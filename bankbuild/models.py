@@ -217,6 +217,58 @@ class DischargeRule(_Strict):
     time_s: Annotated[float, Field(gt=0, le=3600)]
 
 
+class UnitCount(_Strict):
+    """Identical capacitor units in one step of an existing bank: a ``unit_id`` of the unit table and how many."""
+
+    id: Annotated[str, Field(min_length=1, max_length=80)]
+    qty: Annotated[int, Field(ge=1, le=1000)] = 1
+
+
+class LightLoad(_Strict):
+    """The plant's load when it runs light (nights, weekends), for the over-correction check.
+
+    ``fixed_steps`` counts the steps (from the first) that stay on whatever the load; absent, it is every step of
+    a fixed bank (no ``steps`` key) and none of an automatic one.
+    """
+
+    kw: Annotated[float, Field(ge=0, le=1_000_000)]
+    kvar: Annotated[float, Field(ge=0, le=1_000_000)]
+    fixed_steps: Annotated[int, Field(ge=0, le=32)] | None = None
+
+
+MOTOR_DUTIES = ("jogging", "plugging", "reversing", "multi_speed")
+
+
+class Motor(_Strict):
+    """A motor whose terminals the bank connects to (the bank is switched with the motor).
+
+    Give the no-load current (optionally with the no-load power factor) or the magnetising kvar, the full-load
+    current and power factor, and the ampacity of the motor circuit conductors.
+    """
+
+    name: Text = ""
+    no_load_current_a: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    no_load_pf: Annotated[float, Field(ge=0, lt=1)] | None = None
+    magnetising_kvar: Annotated[float, Field(gt=0, le=100_000)] | None = None
+    full_load_current_a: Annotated[float, Field(gt=0, le=100_000)]
+    full_load_pf: PowerFactor
+    conductor_ampacity_a: Annotated[float, Field(gt=0, le=100_000)]
+    starting: Literal["direct", "wye_delta", "soft_starter", "drive", "autotransformer", "part_winding"] = "direct"
+    duty: Annotated[list[Literal[MOTOR_DUTIES]], Field(max_length=4)] = []
+    capacitor_after_overload: bool = True
+
+    @model_validator(mode="after")
+    def _magnetising_form(self) -> Motor:
+        if (self.no_load_current_a is None) == (self.magnetising_kvar is None):
+            raise ValueError("give no_load_current_a or magnetising_kvar (one of them)")
+        if self.no_load_pf is not None and self.no_load_current_a is None:
+            raise ValueError("no_load_pf goes with no_load_current_a")
+        if self.no_load_current_a is not None and self.no_load_current_a >= self.full_load_current_a:
+            raise ValueError(f"no_load_current_a {self.no_load_current_a:g} A must be below full_load_current_a "
+                             f"{self.full_load_current_a:g} A")
+        return self
+
+
 def _steps_form(value: object) -> str | None:
     """Which form ``steps`` takes, from the value's type (so an error names the form the user chose)."""
     if isinstance(value, list):
@@ -247,6 +299,10 @@ class Bank(_Strict):
     detuning_pct: Annotated[float, Field(gt=0, lt=20)] | None = None
     protection: Protection = Protection()
     discharge: DischargeRule | None = None
+    units: Annotated[list[Annotated[list[UnitCount], Field(min_length=1, max_length=50)]],
+                     Field(min_length=1, max_length=32)] | None = None
+    light_load: LightLoad | None = None
+    motor: Motor | None = None
 
     @field_validator("name")
     @classmethod
@@ -269,6 +325,31 @@ class Bank(_Strict):
         """Detuning as a fraction p (0 when the bank is not detuned)."""
         return (self.detuning_pct or 0.0) / 100.0
 
+    @model_validator(mode="after")
+    def _existing_units(self) -> Bank:
+        if self.units is not None and self.steps is not None:
+            raise ValueError("give steps (to size a new bank) or units (an existing bank's units per step), not both")
+        if self.light_load is not None and (self.light_load.fixed_steps or 0) > self.step_count:
+            raise ValueError(f"light_load.fixed_steps {self.light_load.fixed_steps} is more than the bank's "
+                             f"{self.step_count} steps")
+        return self
+
+    @property
+    def step_count(self) -> int:
+        """How many steps the bank has: its units, its step list or plan, or one fixed step."""
+        if self.units is not None:
+            return len(self.units)
+        if isinstance(self.steps, list):
+            return len(self.steps)
+        return 1 if self.steps is None else self.steps.count
+
+    @property
+    def fixed_step_count(self) -> int:
+        """Steps that stay on at light load: as given, else the one step of a fixed bank (no ``steps`` key and
+        at most one step of units) and none of an automatic bank."""
+        if self.light_load is not None and self.light_load.fixed_steps is not None:
+            return self.light_load.fixed_steps
+        return 1 if self.steps is None and self.step_count == 1 else 0
 
 class Spec(_Strict):
     """A whole spec file: project fields, the rule basis, one or more banks, optional user tables."""

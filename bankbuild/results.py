@@ -146,6 +146,85 @@ class BomLine(_Frozen):
     notes: str = ""
 
 
+class VoltageStress(_Frozen):
+    """What the capacitor units see against their rating (IEEE 18, IEC 60831-1), fundamental only."""
+
+    rated_voltage_v: float
+    rated_frequency_hz: float
+    capacitor_voltage_v: float  # at the supply, with the detuning rise V/(1 − p)
+    light_load_voltage_v: float  # plus the light-load rise with every step on (equal without a transformer)
+    voltage_pu: float  # light_load_voltage_v / rated_voltage_v
+    current_pu: float  # voltage_pu · f / f_r
+    kvar_pu: float  # voltage_pu² · f / f_r
+    utilisation_pu: float  # delivered kvar / nameplate kvar
+    iec_duration: str  # the IEC 60831-1 duration class the light-load voltage falls in
+    ok: bool  # within 110 % of rated voltage, at the supply and at light load
+
+
+class TuningCheck(_Frozen):
+    """A detuned bank's series tuning against the supply frequency."""
+
+    tuning_pct: float
+    tuning_frequency_hz: float
+    tuning_order: float
+    ok: bool
+
+
+class DetuningAdvice(_Frozen):
+    """The detuned alternative offered when a plain bank resonates near a characteristic harmonic."""
+
+    tuning_pct: float
+    tuning_frequency_hz: float
+    tuning_order: float
+    capacitor_voltage_v: float  # what the units would see, V/(1 − p)
+    unit_voltage_v: float | None  # the next rated voltage in the unit table (None: none high enough)
+
+
+class LightLoadCheck(_Frozen):
+    """Fixed steps against the light load: leading power factor and the largest fixed kvar that avoids it."""
+
+    kw: float
+    kvar: float
+    fixed_steps: list[int]
+    fixed_kvar: float
+    net_kvar: float  # load kvar − fixed kvar; negative is leading
+    power_factor: float
+    leading: bool
+    max_fixed_kvar: float
+    suggested_kvar: float
+    suggested_units: list[UnitLine]
+
+
+class MotorCheck(_Frozen):
+    """A bank at a motor's terminals: self-excitation limit, overload relay setting, conductor rule."""
+
+    name: str
+    magnetising_kvar: float
+    capacitor_kvar: float
+    full_load_current_a: float
+    reduced_current_a: float
+    improved_pf: float
+    overload_setting_basis_a: float
+    min_conductor_ampacity_a: float
+    conductor: str
+    conductor_ampacity_a: float
+    suggested_kvar: float
+    suggested_units: list[UnitLine]
+
+
+class SystemResult(_Frozen):
+    """The bank in its system: voltage stress, resonance for every step combination, light load, motor."""
+
+    voltage: VoltageStress
+    short_circuit_mva: float | None
+    resonance_combinations: list[ResonancePoint]
+    combinations_complete: bool
+    tuning: TuningCheck | None
+    detuning_advice: DetuningAdvice | None
+    light_load: LightLoadCheck | None
+    motor: MotorCheck | None
+
+
 class BankResult(_Frozen):
     name: str
     rules: str
@@ -170,6 +249,7 @@ class BankResult(_Frozen):
     voltage_rise_pct: float | None
     checks: list[Check]
     bom: list[BomLine] = []
+    system: SystemResult | None = None
 
 
 class TableUsed(_Frozen):

@@ -46,6 +46,9 @@ def bank_summary(bank: BankResult) -> list[str]:
     out.append(f"  checks        {len(bank.checks) - len(flagged)} met, {len(flagged)} flagged")
     for check in flagged:
         out.append(f"    FLAG  {check.name}: {check.detail}")
+    for check in bank.checks:
+        if check.ok and check.level == "info":  # figures to act on, e.g. a motor's overload relay setting
+            out.append(f"    NOTE  {check.name}: {check.detail}")
     return out
 
 
