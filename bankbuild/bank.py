@@ -131,6 +131,11 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
         "unit rated voltage must not be below the voltage the capacitor sees",
         detail=(f"capacitor sees {v_cap_needed:.0f} V" + (f" (= {v_s:g} V / (1 − {p:g}))" if p else "")
                 + f"; units rated {v_r:g} V")))
+    if bank.voltage_margin_pct > 0 and v_r < v_wanted - 1e-9:
+        checks.append(Check(
+            name="Unit voltage margin", ok=False, rule="spec: voltage_margin_pct",
+            detail=f"wanted units rated ≥ {v_wanted:.0f} V ({v_cap_needed:.0f} V + {bank.voltage_margin_pct:g}%); "
+                   f"units rated {v_r:g} V" + ("" if v_r < max(available) else ", the highest in the unit table")))
 
     units = [u for u in units_all if u.rated_voltage_v == v_r and u.rated_frequency_hz == f_r]
     at_supply = cap.rerate_kvar(1.0, v_r, f_r, v_s, f_s)

@@ -5,6 +5,7 @@ title block, the provenance block and the cautions box. reportlab is imported in
 from __future__ import annotations
 
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 from ..results import ProjectResult
 from .pdf_common import (
@@ -19,20 +20,60 @@ from .pdf_common import (
     SHADE,
     P,
     para_text,
+    plain_text,
+    styles,
 )
 
 
-def verdict(ok: bool, passed: str = "pass", failed: str = "FLAG"):
+@dataclass(frozen=True)
+class CellText:
+    """Literal text for a table cell: :func:`grid` draws it as a plain string when it fits on one line (fast),
+    else as a wrapping Paragraph."""
+
+    text: str
+    style: str = "cell"
+    colour: tuple[float, float, float] | None = None
+
+
+def C(text: object, style: str = "cell", colour: tuple[float, float, float] | None = None) -> CellText:  # noqa: N802
+    """A table cell of literal ``text`` in one of the styles of :func:`~.pdf_common.styles`."""
+    return CellText(plain_text(text), style, colour)
+
+
+def verdict(ok: bool, passed: str = "pass", failed: str = "FLAG") -> CellText:
     """A pass / flag cell, coloured, bold on a flag."""
-    colour = "#" + "".join(f"{int(c * 255):02x}" for c in (PASS_GREEN if ok else FLAG_RED))
-    word = para_text(passed if ok else failed)
-    return PM(f'<font color="{colour}">{word}</font>' if ok else f'<font color="{colour}"><b>{word}</b></font>',
-              "cell")
+    return C(passed, "cell", PASS_GREEN) if ok else C(failed, "cell_bold", FLAG_RED)
+
+
+def _cell(cell, row: int, col: int, width: float, cmds: list):
+    """A CellText as a string (with its style commands) when it fits on one line, else as a Paragraph."""
+    from reportlab.lib.colors import Color
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+    from reportlab.platypus import Paragraph
+
+    if not isinstance(cell, CellText):
+        return cell
+    style = styles()[cell.style]
+    one_line = stringWidth(cell.text, style.fontName, style.fontSize) <= width - 6.5
+    if not one_line:
+        if cell.colour is not None:
+            style = style.clone(f"{style.name}-c", textColor=Color(*cell.colour))
+        return Paragraph(para_text(cell.text), style)
+    at = (col, row), (col, row)
+    cmds += [("FONTNAME", *at, style.fontName), ("FONTSIZE", *at, style.fontSize),
+             ("LEADING", *at, style.leading), ("TEXTCOLOR", *at, Color(*(cell.colour or INK)))]
+    if style.alignment == 2:
+        cmds.append(("ALIGN", *at, "RIGHT"))
+    return cell.text
 
 
 def grid(rows: Sequence[Sequence], widths: Sequence[float], header_rows: int = 1, zebra: bool = True,
          spans: Sequence[int] = (), row_heights: Sequence[float | None] | None = None):
-    """A ruled table whose header rows repeat on every page; ``spans`` are rows drawn as full-width bands."""
+    """A ruled table whose header rows repeat on every page; ``spans`` are rows drawn as full-width bands.
+
+    Cells are flowables, or :class:`CellText` (drawn as plain strings where they fit: much faster than a
+    Paragraph per cell).
+    """
     from reportlab.lib.colors import Color
     from reportlab.platypus import Table, TableStyle
 
@@ -57,17 +98,19 @@ def grid(rows: Sequence[Sequence], widths: Sequence[float], header_rows: int = 1
     for r in spans:
         cmds += [("SPAN", (0, r), (-1, r)), ("BACKGROUND", (0, r), (-1, r), Color(0.84, 0.88, 0.92)),
                  ("LINEABOVE", (0, r), (-1, r), 0.8, Color(*INK))]
-    table = Table([list(r) for r in rows], colWidths=list(widths), repeatRows=header_rows, hAlign="LEFT",
+    data = []
+    for r, row in enumerate(rows):
+        span = r in spans
+        data.append([_cell(cell, r, c, sum(widths) if span else widths[c], cmds) for c, cell in enumerate(row)])
+    table = Table(data, colWidths=list(widths), repeatRows=header_rows, hAlign="LEFT",
                   rowHeights=list(row_heights) if row_heights else None)
     table.setStyle(TableStyle(cmds))
     return table
 
 
 def key_values(pairs: Sequence[tuple[str, object]], width: float, key_share: float = 0.28):
-    """A two-column table of labels and values (values may be flowables or text)."""
-    from reportlab.platypus import Flowable
-
-    rows = [[P(k, "cell_bold"), v if isinstance(v, Flowable) else P(v)] for k, v in pairs]
+    """A two-column table of labels and values (values may be flowables, cells or text)."""
+    rows = [[C(k, "cell_bold"), v if not isinstance(v, str) else C(v)] for k, v in pairs]
     return grid(rows, [width * key_share, width * (1 - key_share)], header_rows=0)
 
 
@@ -83,14 +126,14 @@ def title_block(result: ProjectResult, doc_title: str, purpose: str, width: floa
 
     half = width / 2
     rows = [
-        [P("Project", "cell_bold"), P(field("name")), "", ""],
-        [P("Site", "cell_bold"), P(field("site")), "", ""],
-        [P("Banks", "cell_bold"), P(banks), "", ""],
-        [P("Revision", "cell_bold"), P(field("revision")), P("Date", "cell_bold"), P(field("date"))],
-        [P("Prepared by", "cell_bold"), P(field("prepared_by")), P("Checked by", "cell_bold"),
-         P(field("checked_by"))],
-        [P("Rule basis", "cell_bold"), P(result.provenance.edition), P("Generated by", "cell_bold"),
-         P(f"bankbuild {result.provenance.version}")],
+        [C("Project", "cell_bold"), C(field("name")), "", ""],
+        [C("Site", "cell_bold"), C(field("site")), "", ""],
+        [C("Banks", "cell_bold"), C(banks), "", ""],
+        [C("Revision", "cell_bold"), C(field("revision")), C("Date", "cell_bold"), C(field("date"))],
+        [C("Prepared by", "cell_bold"), C(field("prepared_by")), C("Checked by", "cell_bold"),
+         C(field("checked_by"))],
+        [C("Rule basis", "cell_bold"), C(result.provenance.edition), C("Generated by", "cell_bold"),
+         C(f"bankbuild {result.provenance.version}")],
     ]
     key_w = width * 0.14
     table = grid(rows, [key_w, half - key_w, key_w, half - key_w], header_rows=0, zebra=False)
@@ -103,12 +146,12 @@ def title_block(result: ProjectResult, doc_title: str, purpose: str, width: floa
 def provenance_block(result: ProjectResult, width: float) -> list:
     """Where every number came from: program version, rule basis and edition, spec hash, each table's hash."""
     prov = result.provenance
-    rows = [[P("Program", "cell_bold"), P(f"bankbuild {prov.version}")],
-            [P("Rule basis", "cell_bold"), P(f"{prov.rules.upper()}: {prov.edition}")],
-            [P("Spec file", "cell_bold"), P(prov.spec_file or "—")],
-            [P("Spec SHA-256", "cell_bold"), P(prov.spec_sha256 or "—")]]
-    table_rows = [[P("Rating table", "head"), P("SHA-256 of the file as read", "head")]]
-    table_rows += [[P(t.file_name), P(t.sha256)] for t in prov.tables]
+    rows = [[C("Program", "cell_bold"), C(f"bankbuild {prov.version}")],
+            [C("Rule basis", "cell_bold"), C(f"{prov.rules.upper()}: {prov.edition}")],
+            [C("Spec file", "cell_bold"), C(prov.spec_file or "—")],
+            [C("Spec SHA-256", "cell_bold"), C(prov.spec_sha256 or "—")]]
+    table_rows = [[C("Rating table", "head"), C("SHA-256 of the file as read", "head")]]
+    table_rows += [[C(t.file_name), C(t.sha256)] for t in prov.tables]
     from reportlab.platypus import KeepTogether
 
     return [KeepTogether([

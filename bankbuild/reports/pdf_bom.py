@@ -7,8 +7,8 @@ row each came from); it does not invent items. reportlab is imported inside the 
 from __future__ import annotations
 
 from ..results import BankResult, BomLine, ProjectResult
-from .pdf_blocks import cautions_box, gap, grid, key_values, provenance_block, section_break, title_block
-from .pdf_common import P, build_pdf, frame_for, gnum, num
+from .pdf_blocks import C, cautions_box, gap, grid, key_values, provenance_block, section_break, title_block
+from .pdf_common import PM, P, build_pdf, frame_for, gnum, num, para_text
 
 DOC_TITLE = "Bill of materials"
 
@@ -92,14 +92,23 @@ def source_text(line: BomLine) -> str:
     return f"{line.table}, row {line.row}" if line.row is not None else line.table
 
 
+def description_cell(line: BomLine):
+    """Description and ratings, with the line's notes beneath in small italics."""
+    if not line.notes:
+        return C(line.description)
+    return PM(f'{para_text(line.description)}<br/><font size="6.6" color="#4a5058"><i>{para_text(line.notes)}'
+              "</i></font>")
+
+
 def items_table(lines: list[BomLine], width: float):
     """The line items, with a header that repeats on every page."""
-    shares = (0.05, 0.08, 0.12, 0.40, 0.22, 0.13)
-    head = [P(h, "head") for h in ("Item", "Qty", "Category", "Description and ratings", "Table / row", "Notes")]
+    shares = (0.05, 0.08, 0.13, 0.53, 0.21)
+    head = [C(h, "head") for h in ("Item", "Qty", "Category", "Description and ratings (notes in italics)",
+                                   "Table / row")]
     rows = [head]
     for line in lines:
-        rows.append([P(str(line.item)), P(qty_text(line)), P(line.category), P(line.description),
-                     P(source_text(line), "small"), P(line.notes or "", "small")])
+        rows.append([C(str(line.item)), C(qty_text(line)), C(line.category), description_cell(line),
+                     C(source_text(line), "small")])
     return grid(rows, [width * s for s in shares])
 
 

@@ -106,9 +106,12 @@ def plain_text(text: object) -> str:
     >>> plain_text("\u4e2d")
     '[U+4E2D]'
     """
+    text = str(text)
+    if text.isascii() and text.isprintable():  # the common case: nothing to replace
+        return text
     covered = register_fonts()
     out = []
-    for ch in str(text):
+    for ch in text:
         ch = _LOOK_ALIKE.get(ch, ch)
         if len(ch) > 1 or ord(ch) in covered:
             out.append(ch)

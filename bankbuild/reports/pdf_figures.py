@@ -4,11 +4,14 @@ reconnection delay, system checks) turned into label/value rows from their names
 
 from __future__ import annotations
 
+import re
+
 from .pdf_common import num
 
 UNIT_SUFFIXES = {"a": "A", "v": "V", "s": "s", "hz": "Hz", "uh": "µH", "mh": "mH", "uf": "µF", "ohm": "Ω",
-                 "w": "W", "kw": "kW", "kvar": "kvar", "kva": "kVA", "mva": "MVA", "pct": "%", "ka": "kA",
-                 "pu": "pu"}
+                 "w": "W", "kw": "kW", "kvar": "kvar", "kva": "kVA", "va": "VA", "mva": "MVA", "pct": "%",
+                 "ka": "kA", "pu": "pu", "c": "°C", "k": "K", "kg_m3": "kg/m³", "m3_per_h": "m³/h"}
+WORDS = {"ct": "CT", "back to back": "back-to-back", "qty": "quantity", "inter step": "between steps"}
 
 
 # Labels that read better than the field name does.
@@ -39,12 +42,20 @@ def label(name: str) -> str:
 
     >>> label("peak_current_a"), label("reconnection_delay_s"), label("leading"), label("voltage_pu")
     ('Peak current [A]', 'Reconnection delay [s]', 'Leading', 'Voltage / rated [pu]')
+    >>> label("airflow_m3_per_h"), label("ambient_c"), label("ct_burden_needed_va"), label("back_to_back_peak_a")
+    ('Airflow [m³/h]', 'Ambient [°C]', 'CT burden needed [VA]', 'Back-to-back peak [A]')
     """
     if name in LABELS:
         return LABELS[name]
     parts = name.split("_")
-    unit = UNIT_SUFFIXES.get(parts[-1]) if len(parts) > 1 else None
-    words = " ".join(parts[:-1] if unit else parts)
+    unit, words = None, " ".join(parts)
+    for n in (3, 2, 1):  # the longest unit suffix first: m3_per_h, kg_m3, a
+        if len(parts) > n and "_".join(parts[-n:]) in UNIT_SUFFIXES:
+            unit, words = UNIT_SUFFIXES["_".join(parts[-n:])], " ".join(parts[:-n])
+            break
+    words = " ".join(WORDS.get(w, w) for w in words.split(" "))
+    for old, new in WORDS.items():
+        words = re.sub(rf"\b{old}\b", new, words)
     return words[:1].upper() + words[1:] + (f" [{unit}]" if unit else "")
 
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from ..results import BankResult, ProjectResult, SizingLine, Step
 from .pdf_blocks import (
+    C,
     cautions_box,
     gap,
     grid,
@@ -22,7 +23,7 @@ from .pdf_blocks import (
     verdict,
 )
 from .pdf_bom import detuning_text, need_text, steps_text, supply_text
-from .pdf_common import FONT, INK, PM, P, build_pdf, frame_for, gnum, num, para_text
+from .pdf_common import CAUTION_EDGE, FONT, INK, PM, RULE_GREY, P, build_pdf, frame_for, gnum, num, para_text
 from .pdf_worksheet_assembly import assembly_sections
 from .pdf_worksheet_system import system_sections
 
@@ -87,7 +88,7 @@ def capacitance_formula(step: Step, bank: BankResult) -> str:
 
 def units_table(bank: BankResult, width: float):
     """Units, delivered kvar and currents of each step, each figure with its formula."""
-    head = [P(h, "head") for h in ("Step", "Units (qty × table id)", "Delivered at the supply",
+    head = [C(h, "head") for h in ("Step", "Units (qty × table id)", "Delivered at the supply",
                                    "Rated current I = Q_r / (√3·V_r)", "Operating current", "Capacitance per leg")]
     rows = [head]
     for step in bank.steps:
@@ -96,16 +97,16 @@ def units_table(bank: BankResult, width: float):
                  f"{num(step.rated_current_a, 1, 'A')}")
         operating = (f"{num(step.kvar, 1)} kvar / (√3 × {gnum(bank.supply_voltage_v)} V) = "
                      f"{num(step.line_current_a, 1, 'A')}")
-        rows.append([P(str(step.index)), P(units), P(delivered_formula(step, bank)), P(rated), P(operating),
-                     P(capacitance_formula(step, bank))])
+        rows.append([C(str(step.index)), C(units), C(delivered_formula(step, bank)), C(rated), C(operating),
+                     C(capacitance_formula(step, bank))])
     total = (f"{num(bank.rated_kvar, 1)} kvar / (√3 × {gnum(bank.capacitor_voltage_v)} V) = "
              f"{num(bank.rated_current_a, 1, 'A')}")
-    rows.append([P("All", "cell_bold"), P(f"nameplate {num(bank.rated_kvar, 1, 'kvar')}"),
-                 P(f"{num(bank.delivered_kvar, 1, 'kvar')} (need {num(bank.required_kvar, 1, 'kvar')})",
+    rows.append([C("All", "cell_bold"), C(f"nameplate {num(bank.rated_kvar, 1, 'kvar')}"),
+                 C(f"{num(bank.delivered_kvar, 1, 'kvar')} (need {num(bank.required_kvar, 1, 'kvar')})",
                    "cell_bold"),
-                 P(total), P(f"{num(bank.delivered_kvar, 1)} kvar / (√3 × {gnum(bank.supply_voltage_v)} V) = "
+                 C(total), C(f"{num(bank.delivered_kvar, 1)} kvar / (√3 × {gnum(bank.supply_voltage_v)} V) = "
                              f"{num(bank.line_current_a, 1, 'A')}"),
-                 P(f"{num(bank.capacitance_uf_per_phase, 1, 'µF')}")])
+                 C(f"{num(bank.capacitance_uf_per_phase, 1, 'µF')}")])
     shares = (0.06, 0.2, 0.19, 0.19, 0.18, 0.18)
     return grid(rows, [width * s for s in shares])
 
@@ -127,18 +128,18 @@ def detuning_table(bank: BankResult, width: float):
     detuned = [s for s in bank.steps if s.detuning is not None]
     if not detuned:
         return None
-    head = [P(h, "head") for h in ("Step", "p", "Tuning f_r = f₁/√p", "Capacitor voltage U/(1 − p)",
+    head = [C(h, "head") for h in ("Step", "p", "Tuning f_r = f₁/√p", "Capacitor voltage U/(1 − p)",
                                    "Capacitor kvar at U", "Reactor L", "Reactor current")]
     rows = [head]
     for step in detuned:
         d = step.detuning
         p = d.tuning_pct / 100
-        rows.append([P(str(step.index)), P(f"{gnum(d.tuning_pct)}%"),
-                     P(f"{gnum(bank.frequency_hz)} Hz / √{gnum(p)} = {num(d.tuning_frequency_hz, 1, 'Hz')} "
+        rows.append([C(str(step.index)), C(f"{gnum(d.tuning_pct)}%"),
+                     C(f"{gnum(bank.frequency_hz)} Hz / √{gnum(p)} = {num(d.tuning_frequency_hz, 1, 'Hz')} "
                        f"(order {d.tuning_order:.2f})"),
-                     P(f"{gnum(bank.supply_voltage_v)} V / (1 − {gnum(p)}) = {num(d.capacitor_voltage_v, 1, 'V')}"),
-                     P(num(d.capacitor_kvar_at_supply, 1, "kvar")), P(num(d.reactor_inductance_mh, 3, "mH")),
-                     P(num(d.reactor_current_a, 1, "A"))])
+                     C(f"{gnum(bank.supply_voltage_v)} V / (1 − {gnum(p)}) = {num(d.capacitor_voltage_v, 1, 'V')}"),
+                     C(num(d.capacitor_kvar_at_supply, 1, "kvar")), C(num(d.reactor_inductance_mh, 3, "mH")),
+                     C(num(d.reactor_current_a, 1, "A"))])
     shares = (0.06, 0.07, 0.22, 0.22, 0.14, 0.14, 0.15)
     return grid(rows, [width * s for s in shares])
 
@@ -148,8 +149,8 @@ def sizing_row(line: SizingLine) -> list:
     chosen = para_text(line.chosen)
     if line.note:
         chosen += f'<br/><font name="{FONT}" size="6.6"><i>{para_text(line.note)}</i></font>'
-    return [P(line.item, "cell_bold"), P(line.formula), P(f"× {gnum(line.factor)}"), P(line.rule, "small"),
-            P(num(line.required_a, 1, "A"), "cell_right"), PM(chosen), verdict(line.ok)]
+    return [C(line.item, "cell_bold"), C(line.formula), C(f"× {gnum(line.factor)}"), C(line.rule, "small"),
+            C(num(line.required_a, 1, "A"), "cell_right"), PM(chosen), verdict(line.ok)]
 
 
 def design_current_text(rated_a: float, operating_a: float, design_a: float) -> str:
@@ -161,7 +162,7 @@ def design_current_text(rated_a: float, operating_a: float, design_a: float) -> 
 
 def sizing_table(bank: BankResult, width: float):
     """Every sizing line of the main incomer and of each step; band rows name the circuit and its current."""
-    head = [P(h, "head") for h in ("What is sized", "Formula, numbers substituted", "Factor", "Rule it follows",
+    head = [C(h, "head") for h in ("What is sized", "Formula, numbers substituted", "Factor", "Rule it follows",
                                    "Computed", "Standard rating chosen", "Result")]
     rows = [head]
     bands = []
@@ -180,14 +181,24 @@ def sizing_table(bank: BankResult, width: float):
     return grid(rows, [width * s for s in SIZING_SHARES], spans=bands)
 
 
+def check_verdict(check):
+    """pass / FLAG; a met caution in amber, a note in grey."""
+    if not check.ok:
+        return verdict(False)
+    if check.level == "caution":
+        return C("caution", "cell_bold", CAUTION_EDGE)
+    if check.level == "info":
+        return C("note", "cell", RULE_GREY)
+    return verdict(True)
+
+
 def checks_table(bank: BankResult, width: float):
     """Every check and flag of the bank."""
-    head = [P(h, "head") for h in ("Check", "What was found", "Rule", "Result")]
+    head = [C(h, "head") for h in ("Check", "What was found", "Rule", "Result")]
     rows = [head]
     for check in bank.checks:
-        word = "note" if check.level == "info" else ("caution" if check.level == "caution" else "pass")
-        rows.append([P(check.name, "cell_bold"), P(check.detail), P(check.rule or "—", "small"),
-                     verdict(check.ok, passed=word)])
+        rows.append([C(check.name, "cell_bold"), C(check.detail), C(check.rule or "—", "small"),
+                     check_verdict(check)])
     shares = (0.22, 0.44, 0.25, 0.09)
     return grid(rows, [width * s for s in shares])
 
@@ -222,9 +233,9 @@ def sign_off(result: ProjectResult, width: float):
     from reportlab.platypus import KeepTogether, TableStyle
 
     project = result.project
-    rows = [[P(h, "head") for h in ("Role", "Name", "Signature", "Date")]]
+    rows = [[C(h, "head") for h in ("Role", "Name", "Signature", "Date")]]
     for role, key in (("Prepared by", "prepared_by"), ("Checked by", "checked_by"), ("Approved by", "")):
-        rows.append([P(role, "cell_bold"), P(project.get(key, "") if key else ""), "", ""])
+        rows.append([C(role, "cell_bold"), C(project.get(key, "") if key else ""), "", ""])
     table = grid(rows, [width * s for s in (0.16, 0.34, 0.32, 0.18)], zebra=False,
                  row_heights=[None] + [34.0] * 3)
     table.setStyle(TableStyle([("LINEBELOW", (2, 1), (3, -1), 0.6, Color(*INK)),

@@ -8,7 +8,7 @@ Every field is read with ``getattr`` so that the worksheet renders results with 
 from __future__ import annotations
 
 from ..results import BankResult
-from .pdf_blocks import grid, heading, key_values, verdict
+from .pdf_blocks import C, grid, heading, key_values, verdict
 from .pdf_common import P, num
 from .pdf_figures import model_pairs
 
@@ -29,7 +29,7 @@ def switching_table(bank: BankResult, width: float):
     steps = [s for s in bank.steps if getattr(s, "switching", None) is not None]
     if not steps:
         return None
-    head = [P(h, "head") for h in ("Step", "Capacitor-duty contactor", "Needed / rated current",
+    head = [C(h, "head") for h in ("Step", "Capacitor-duty contactor", "Needed / rated current",
                                    "Energising peak", "Back-to-back peak", "Limit (capacitor, contactor)",
                                    "Damping", "Result")]
     rows = [head]
@@ -46,12 +46,12 @@ def switching_table(bank: BankResult, width: float):
         if extra:
             damping += f"; add {num(extra, 1, 'µH')} per phase"
         rows.append([
-            P(str(step.index)), P(pick_text(getattr(sw, "contactor", None))),
-            P(f"{_amps(getattr(sw, 'required_current_a', None))} / {_amps(getattr(sw, 'contactor_current_a', None))}"),
-            P(_amps(getattr(sw, "energising_peak_a", None))), P(_amps(getattr(sw, "back_to_back_peak_a", None))),
-            P(f"{_amps(getattr(sw, 'capacitor_limit_a', None))}, {_amps(getattr(sw, 'contactor_limit_a', None))}"),
-            P(damping), verdict(ok)])
-    shares = (0.06, 0.24, 0.13, 0.1, 0.1, 0.15, 0.14, 0.08)
+            C(str(step.index)), C(pick_text(getattr(sw, "contactor", None))),
+            C(f"{_amps(getattr(sw, 'required_current_a', None))} / {_amps(getattr(sw, 'contactor_current_a', None))}"),
+            C(_amps(getattr(sw, "energising_peak_a", None))), C(_amps(getattr(sw, "back_to_back_peak_a", None))),
+            C(f"{_amps(getattr(sw, 'capacitor_limit_a', None))}, {_amps(getattr(sw, 'contactor_limit_a', None))}"),
+            C(damping), verdict(ok)])
+    shares = (0.05, 0.22, 0.12, 0.1, 0.135, 0.16, 0.125, 0.09)
     return grid(rows, [width * s for s in shares])
 
 
@@ -60,19 +60,19 @@ def reactor_table(bank: BankResult, width: float):
     steps = [s for s in bank.steps if getattr(s, "reactor", None) is not None]
     if not steps:
         return None
-    head = [P(h, "head") for h in ("Step", "Reactor", "L needed / used", "Current needed / rated",
+    head = [C(h, "head") for h in ("Step", "Reactor", "L needed / used", "Current needed / rated",
                                    "Tuned to", "Capacitor voltage (fund., rms)", "Unit rated", "Result")]
     rows = [head]
     for step in steps:
         r = step.reactor
         rows.append([
-            P(str(step.index)), P(pick_text(getattr(r, "reactor", None))),
-            P(f"{num(getattr(r, 'required_inductance_mh', None), 3)} / {num(getattr(r, 'inductance_mh', None), 3)} mH"),
-            P(f"{_amps(getattr(r, 'required_current_a', None))} / {_amps(getattr(r, 'current_rating_a', None))}"),
-            P(num(getattr(r, "actual_tuning_frequency_hz", None), 1, "Hz")),
-            P(f"{num(getattr(r, 'capacitor_voltage_v', None), 0)} V, "
+            C(str(step.index)), C(pick_text(getattr(r, "reactor", None))),
+            C(f"{num(getattr(r, 'required_inductance_mh', None), 3)} / {num(getattr(r, 'inductance_mh', None), 3)} mH"),
+            C(f"{_amps(getattr(r, 'required_current_a', None))} / {_amps(getattr(r, 'current_rating_a', None))}"),
+            C(num(getattr(r, "actual_tuning_frequency_hz", None), 1, "Hz")),
+            C(f"{num(getattr(r, 'capacitor_voltage_v', None), 0)} V, "
               f"{num(getattr(r, 'capacitor_voltage_rms_v', None), 0)} V"),
-            P(num(getattr(r, "unit_voltage_v", None), 0, "V")), verdict(bool(getattr(r, "voltage_ok", True)))])
+            C(num(getattr(r, "unit_voltage_v", None), 0, "V")), verdict(bool(getattr(r, "voltage_ok", True)))])
     shares = (0.06, 0.25, 0.13, 0.13, 0.1, 0.15, 0.1, 0.08)
     return grid(rows, [width * s for s in shares])
 
@@ -102,6 +102,23 @@ def assembly_sections(bank: BankResult, width: float) -> list:
             key_values(_pairs(control), width, key_share=0.35)]
     enclosure = getattr(bank, "enclosure", None)
     if enclosure is not None:
-        story += heading("Enclosure heat and ventilation", "h2", 80) + [
-            key_values(_pairs(enclosure), width, key_share=0.35)]
+        story += heading("Enclosure heat and ventilation", "h2", 140) + enclosure_blocks(enclosure, width)
     return story
+
+
+def enclosure_blocks(enclosure, width: float) -> list:
+    """The heat sources as a table, then the ventilation and busbar figures."""
+    blocks: list = []
+    losses = list(getattr(enclosure, "losses", None) or [])
+    if losses:
+        rows = [[C(h, "head") for h in ("Heat source", "Qty", "Each", "Total", "Source of the figure")]]
+        for line in losses:
+            rows.append([C(getattr(line, "item", "")), C(str(getattr(line, "qty", ""))),
+                         C(num(getattr(line, "each_w", None), 1, "W"), "cell_right"),
+                         C(num(getattr(line, "total_w", None), 0, "W"), "cell_right"),
+                         C(getattr(line, "source", ""), "small")])
+        rows.append([C("All heat sources", "cell_bold"), C(""), C(""),
+                     C(num(getattr(enclosure, "total_losses_w", None), 0, "W"), "cell_right"), C("")])
+        blocks += [grid(rows, [width * s for s in (0.3, 0.07, 0.11, 0.11, 0.41)])]
+    blocks.append(key_values(_pairs(enclosure, skip=("losses", "total_losses_w")), width, key_share=0.35))
+    return blocks

@@ -1,7 +1,8 @@
-"""Worksheet sections after the protection rows: discharge and reconnection, resonance, voltage rise, inrush.
+"""Worksheet sections after the protection rows: discharge and reconnection, resonance, voltage rise, and the
+further system figures (voltage on the units, light load, motor) when the results carry them.
 
 Each figure is shown with its formula and the numbers substituted, taken from the results; nothing here sizes
-anything. Inrush and reconnection figures are shown when the results carry them.
+anything.
 """
 
 from __future__ import annotations
@@ -10,7 +11,7 @@ import math
 import re
 
 from ..results import BankResult
-from .pdf_blocks import grid, heading, key_values, verdict
+from .pdf_blocks import C, grid, heading, key_values, verdict
 from .pdf_common import P, gnum, num
 from .pdf_figures import bank_pairs, model_pairs
 
@@ -50,10 +51,10 @@ def discharge_table(bank: BankResult, width: float):
         ("Resistor wattage", w_text),
         ("Units' own resistors", builtin),
     ]
-    pairs += [(label, text) for label, text in bank_pairs(bank, ("reconnection", "reconnect"))]
+    pairs += reconnection_pairs(bank)
     table = key_values(pairs, width, key_share=0.2)
-    verdict_row = grid([[P("Discharge with the units' own resistors", "cell_bold"),
-                         P("meets the rule" if dis.builtin_ok else "does NOT meet the rule: add discharge resistors "
+    verdict_row = grid([[C("Discharge with the units' own resistors", "cell_bold"),
+                         C("meets the rule" if dis.builtin_ok else "does NOT meet the rule: add discharge resistors "
                            "of at most the resistance above, rated for the wattage above"),
                          verdict(dis.builtin_ok)]], [width * 0.3, width * 0.61, width * 0.09], header_rows=0)
     return [table, verdict_row]
@@ -62,6 +63,22 @@ def discharge_table(bank: BankResult, width: float):
 def _system(bank: BankResult):
     """The bank's system figures when the pipeline gives them (``BankResult.system``), else None."""
     return getattr(bank, "system", None)
+
+
+def reconnection_pairs(bank: BankResult) -> list[tuple[str, str]]:
+    """The reconnection delay of automatic steps, when the results carry it."""
+    rec = getattr(bank, "reconnection", None)
+    if rec is None:
+        return []
+    try:
+        return [
+            ("Reconnection delay", f"{num(rec.delay_s, 0, 's')} before a step is switched on again — {rec.rule}"),
+            ("Time to 10% of rated", f"{num(rec.time_to_10pct_s, 1, 's')} from {num(rec.start_voltage_v, 1, 'V')} "
+                                     f"to {num(rec.limit_10pct_v, 1, 'V')} with the units' own resistors"),
+            ("Time to 50 V", num(rec.time_to_50v_s, 1, "s")),
+        ]
+    except AttributeError:  # another shape of the figures: show every field as it is
+        return bank_pairs(bank, ("reconnection",))
 
 
 def short_circuit_kva(bank: BankResult) -> float:
@@ -155,7 +172,7 @@ def resonance_table(bank: BankResult, points: list, with_reactors: bool, width: 
     """The resonance order for each step combination, flagged near the 5th, 7th, 11th and 13th."""
     p = (bank.detuning_pct or 0.0) / 100 if with_reactors else 0.0
     formula = "h = 1/√(Q_C/S_sc + p)" if p else "h = √(S_sc / Q)"
-    head = [P(h, "head") for h in ("Steps on", "kvar on", formula, "Order h", "Nearest of 5/7/11/13", "Result")]
+    head = [C(h, "head") for h in ("Steps on", "kvar on", formula, "Order h", "Nearest of 5/7/11/13", "Result")]
     rows = [head]
     legacy_detuned = bool(bank.detuning_pct) and not with_reactors
     s_sc = short_circuit_kva(bank)
@@ -164,9 +181,9 @@ def resonance_table(bank: BankResult, points: list, with_reactors: bool, width: 
             result = verdict(True, passed="detuned")
         else:
             result = verdict(pt.near_harmonic is None, failed=f"FLAG {pt.near_harmonic}th")
-        rows.append([P(steps_label(pt.steps)), P(num(pt.kvar, 1)),
-                     P(order_formula(pt.kvar, pt.harmonic_order, s_sc, p)),
-                     P(f"{pt.harmonic_order:.2f}", "cell_bold"), P(nearest_text(pt.harmonic_order)), result])
+        rows.append([C(steps_label(pt.steps)), C(num(pt.kvar, 1)),
+                     C(order_formula(pt.kvar, pt.harmonic_order, s_sc, p)),
+                     C(f"{pt.harmonic_order:.2f}", "cell_bold"), C(nearest_text(pt.harmonic_order)), result])
     shares = (0.12, 0.1, 0.3, 0.1, 0.22, 0.16)
     return grid(rows, [width * s for s in shares])
 
@@ -199,8 +216,8 @@ def voltage_rise_table(bank: BankResult, width: float):
     threshold = re.search(r"\(([^()]*)\)\s*$", check.detail) if check is not None else None
     if threshold:
         text += f"; {threshold.group(1)}"
-    row = [P("Voltage rise, all steps on at light load", "cell_bold"), P(text),
-           verdict(check.ok) if check is not None else P("—")]
+    row = [C("Voltage rise, all steps on at light load", "cell_bold"), C(text),
+           verdict(check.ok) if check is not None else C("—")]
     return grid([row], [width * 0.3, width * 0.61, width * 0.09], header_rows=0)
 
 
@@ -220,9 +237,6 @@ def system_sections(bank: BankResult, width: float, number: int) -> list:
                   P(resonance_note(bank, len(points), checked, complete, with_reactors), "note")]
         if bank.voltage_rise_pct is not None:
             story.append(voltage_rise_table(bank, width))
-    inrush = bank_pairs(bank, ("inrush",))
-    if inrush:
-        story += heading("Inrush on switching") + [key_values(inrush, width, key_share=0.3)]
     story += system_figures(bank, width)
     return story
 
