@@ -86,8 +86,12 @@ def _from_loads(path: Path, pf_target: float | None, voltage_v: float) -> tuple[
 
 def kvar_text(f: dict) -> str:
     """The quick figure as a few lines of text."""
+    load = f"load            {f['active_kw']:,.1f} kW, {f['reactive_kvar']:,.1f} kvar, PF {f['pf_present']:.3f}"
+    if f["required_kvar"] <= 0:
+        return "\n".join([load, f"correction      none: PF {f['pf_present']:.3f} already meets the target "
+                                 f"{f['pf_target']:.3f}"])
     return "\n".join([
-        f"load            {f['active_kw']:,.1f} kW, {f['reactive_kvar']:,.1f} kvar, PF {f['pf_present']:.3f}",
+        load,
         f"correction      {f['required_kvar']:,.1f} kvar to reach PF {f['pf_target']:.3f} "
         f"(multiplier tan φ1 − tan φ2 = {f['multiplier']:.3f})",
         f"at {f['voltage_v']:g} V, {f['frequency_hz']:g} Hz: {f['capacitance_uf_per_leg_delta']:,.1f} µF per leg "

@@ -71,6 +71,15 @@ def test_kvar_text_exact():
     ])
 
 
+def test_kvar_text_when_nothing_needs_correcting(write_yaml):
+    # 100 kW at PF 0.98 with a target of 0.9: nothing to add (a negative multiplier would only confuse).
+    path = write_yaml("pf_target: 0.9\nloads:\n  - {input_kw: 100, pf: 0.98}\n", "loads.yaml")
+    f = figures(loads=path)
+    assert f["required_kvar"] == 0
+    assert kvar_text(f) == ("load            100.0 kW, 20.3 kvar, PF 0.980\n"
+                            "correction      none: PF 0.980 already meets the target 0.900")
+
+
 @settings(max_examples=100, deadline=None)
 @given(st.floats(1, 10_000), st.floats(0.3, 0.99), st.floats(0.0, 0.5), st.sampled_from([208, 400, 480, 600]),
        st.sampled_from([50, 60]))
