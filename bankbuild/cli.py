@@ -104,6 +104,33 @@ def kvar(kw: Annotated[float | None, typer.Option("--kw", help="Active power of 
     typer.echo(_dumps(figures) if json else kvar_text(figures))
 
 
+@app.command()
+def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing bank(s) (YAML).")],
+           voltage_v: Annotated[float, typer.Option("--voltage-v", help="New supply line-to-line voltage [V].")],
+           frequency_hz: Annotated[float | None, typer.Option(
+               "--frequency-hz", help="New supply frequency [Hz]; default: each bank's own.")] = None,
+           out: Annotated[Path | None, typer.Option(
+               "--out", help="Folder for rerate.json, rerate.txt and rerate-bom-difference.csv.")] = None,
+           json: JsonOpt = False, catalogs: CatOpt = None,
+           transformer_kva: Annotated[float | None, typer.Option(
+               "--transformer-kva", help="Transformer at the new supply [kVA]; default: the spec's.")] = None,
+           transformer_z_pct: Annotated[float | None, typer.Option(
+               "--transformer-z-pct", help="Its impedance [%].")] = None,
+           source_sc_mva: Annotated[float | None, typer.Option(
+               "--source-sc-mva", help="Utility short-circuit level in series with it [MVA].")] = None) -> None:
+    """Move each bank of SPEC to another supply: kvar (∝ V²·f), currents, capacitor voltage, system checks,
+    which installed parts still fit, and a re-sized bank with the bill-of-materials difference.
+
+    A bank's units are those listed under its 'units' key (an existing bank), else the ones 'size' selects.
+
+    Example: bankbuild rerate line3.yaml --voltage-v 415 --frequency-hz 50 --out moved
+    """
+    from .rerate_cli import run_rerate, transformer_option
+
+    site = transformer_option(transformer_kva, transformer_z_pct, source_sc_mva)
+    typer.echo(run_rerate(spec, voltage_v, frequency_hz, out, json, catalogs, site))
+
+
 @catalog_app.command("check")
 def catalog_check(folder: Annotated[Path | None, typer.Argument(help="Folder of tables (default: built-in).")]
                   = None) -> None:

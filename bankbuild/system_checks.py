@@ -181,11 +181,29 @@ def detuned_resonance_order(short_circuit_mva: float, capacitor_kvar: float, p: 
     return 1.0 / math.sqrt(capacitor_kvar / (1000.0 * short_circuit_mva) + p)
 
 
+def tuning_check(bank, p: float) -> tuple[TuningCheck | None, list[Check]]:
+    """A detuned bank's tuning order against the 5th harmonic (with or without a transformer given)."""
+    if not p:
+        return None, []
+    f_s = bank.supply.frequency_hz
+    order = det.tuning_order(p)
+    f_t = det.tuning_frequency_hz(f_s, p)
+    tuning = TuningCheck(tuning_pct=bank.detuning_pct, tuning_frequency_hz=f_t, tuning_order=order,
+                         ok=order <= DETUNED_MAX_ORDER + EPS)
+    wanted = det.tuning_frequency_hz(f_s, SUGGESTED_DETUNING)
+    return tuning, [Check(
+        name="Detuning", ok=tuning.ok, rule="tuning order below the 5th harmonic's band (≤ 4.5)",
+        detail=(f"steps tuned to {f_t:.0f} Hz = order {order:.2f} at {f_s:g} Hz" + (
+            "; inductive above it, so the steps cannot resonate at the 5th and above" if tuning.ok else
+            f": so close to the 5th that the steps would absorb 5th-harmonic current from the whole network; "
+            f"use reactors for p = {SUGGESTED_DETUNING:.0%} at {f_s:g} Hz ({wanted:.0f} Hz)")))]
+
+
 def resonance(bank, steps, p: float, available_v: list[float]):
-    """Resonance points for every step combination, the tuning check and detuning advice, and their checks."""
+    """Resonance points for every step combination, detuning advice, and the resonance check."""
     supply = bank.supply
     if not supply.has_transformer:
-        return None, [], True, None, None, []
+        return None, [], True, None, []
     s_sc = sysc.short_circuit_mva(supply.transformer_kva, supply.transformer_z_pct, supply.source_sc_mva)
     source = (f"{supply.transformer_kva:g} kVA, {supply.transformer_z_pct:g}% transformer"
               + (f" with a {supply.source_sc_mva:g} MVA source in series" if supply.source_sc_mva else "")
@@ -199,22 +217,9 @@ def resonance(bank, steps, p: float, available_v: list[float]):
         points.append(ResonancePoint(steps=[steps[i - 1].index for i in members],
                                      kvar=sum(by_step[steps[i - 1].index] for i in members), harmonic_order=h,
                                      near_harmonic=sysc.near_harmonic(h, HARMONICS)))
-    checks: list[Check] = []
-    tuning = advice = None
+    advice = None
     flagged = [pt for pt in points if pt.near_harmonic]
     shown = "" if complete else f" (first {MAX_COMBINATIONS} distinct totals and the cumulative ones)"
-    if p:
-        order = det.tuning_order(p)
-        f_t = det.tuning_frequency_hz(supply.frequency_hz, p)
-        tuning = TuningCheck(tuning_pct=bank.detuning_pct, tuning_frequency_hz=f_t, tuning_order=order,
-                             ok=order <= DETUNED_MAX_ORDER + EPS)
-        wanted = det.tuning_frequency_hz(supply.frequency_hz, SUGGESTED_DETUNING)
-        checks.append(Check(
-            name="Detuning", ok=tuning.ok, rule="tuning order below the 5th harmonic's band (≤ 4.5)",
-            detail=(f"steps tuned to {f_t:.0f} Hz = order {order:.2f} at {supply.frequency_hz:g} Hz" + (
-                "; inductive above it, so the steps cannot resonate at the 5th and above" if tuning.ok else
-                f": so close to the 5th that the steps would absorb 5th-harmonic current from the whole network; "
-                f"use reactors for p = {SUGGESTED_DETUNING:.0%} at {supply.frequency_hz:g} Hz ({wanted:.0f} Hz)"))))
     if not p or flagged:
         advice = _detuning_advice(supply.voltage_v, supply.frequency_hz, available_v)
     orders = [pt.harmonic_order for pt in points]
@@ -230,10 +235,10 @@ def resonance(bank, steps, p: float, available_v: list[float]):
     elif not flagged:
         detail = (f"{len(points)} step combinations{shown}: h from {min(orders):.2f} to {max(orders):.2f}, "
                   "clear of the 5th, 7th, 11th and 13th")
-    checks.append(Check(name="Resonance", ok=not flagged,
-                        rule="h = √(S_sc/Q)" + (", detuned 1/√(Q_C/S_sc + p)" if p else "") + "; ±10% band",
-                        detail=f"{source}; {detail}"))
-    return s_sc, points, complete, tuning, advice, checks
+    check = Check(name="Resonance", ok=not flagged,
+                  rule="h = √(S_sc/Q)" + (", detuned 1/√(Q_C/S_sc + p)" if p else "") + "; ±10% band",
+                  detail=f"{source}; {detail}")
+    return s_sc, points, complete, advice, [check]
 
 
 def _steps_text(steps: list[int]) -> str:
@@ -295,7 +300,9 @@ def system_figures(bank, steps, *, rules: str, v_r: float, f_r: float, rise_pct:
     rated = sum(s.rated_kvar for s in steps)
     stress = voltage_stress(supply.voltage_v, supply.frequency_hz, v_r, f_r, p, rise_pct, delivered, rated)
     checks = voltage_checks(stress, rules, supply.voltage_v, p, rise_pct, delivered)
-    s_sc, points, complete, tuning, advice, res_checks = resonance(bank, steps, p, available_v)
+    tuning, tuning_checks = tuning_check(bank, p)
+    checks += tuning_checks
+    s_sc, points, complete, advice, res_checks = resonance(bank, steps, p, available_v)
     checks += res_checks
     light, light_checks = light_load_check(bank, steps, unit_rows, factor)
     checks += light_checks

@@ -40,6 +40,17 @@ def write_documents(result: ProjectResult, out_dir: Path) -> list[Path]:
     return written
 
 
+def write_rendered(rendered: list[tuple[str, bytes]], out_dir: Path) -> list[Path]:
+    """Write documents already rendered in memory, each atomically, into ``out_dir`` (created if missing)."""
+    try:
+        out_dir.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OptionError(str(out_dir), "--out", f"cannot create the folder ({exc.strerror or exc})") from None
+    if not out_dir.is_dir():
+        raise OptionError(str(out_dir), "--out", "is not a folder")
+    return [write_atomic(out_dir / name, data) for name, data in rendered]
+
+
 def write_atomic(path: Path, data: bytes) -> Path:
     """Write ``data`` to ``path`` through a temporary file in the same folder and an atomic rename."""
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
