@@ -20,6 +20,7 @@ from .pdf_common import (
     SHADE,
     P,
     para_text,
+    paragraph_class,
     plain_text,
     styles,
 )
@@ -49,7 +50,6 @@ def _cell(cell, row: int, col: int, width: float, cmds: list):
     """A CellText as a string (with its style commands) when it fits on one line, else as a Paragraph."""
     from reportlab.lib.colors import Color
     from reportlab.pdfbase.pdfmetrics import stringWidth
-    from reportlab.platypus import Paragraph
 
     if not isinstance(cell, CellText):
         return cell
@@ -58,7 +58,7 @@ def _cell(cell, row: int, col: int, width: float, cmds: list):
     if not one_line:
         if cell.colour is not None:
             style = style.clone(f"{style.name}-c", textColor=Color(*cell.colour))
-        return Paragraph(para_text(cell.text), style)
+        return paragraph_class()(para_text(cell.text), style)
     at = (col, row), (col, row)
     cmds += [("FONTNAME", *at, style.fontName), ("FONTSIZE", *at, style.fontSize),
              ("LEADING", *at, style.leading), ("TEXTCOLOR", *at, Color(*(cell.colour or INK)))]

@@ -84,6 +84,7 @@ def register_fonts() -> frozenset[int]:
     covered: set[int] | None = None
     for name, file_name in _FONT_FILES.items():
         font = TTFont(name, os.path.join(fonts_dir(), file_name))
+        _cache_widths(font)
         pdfmetrics.registerFont(font)
         # A code point mapped to glyph 0 draws the empty box (.notdef): it is not covered.
         drawn = {code for code, glyph in font.face.charToGlyph.items() if glyph != 0}
@@ -92,6 +93,38 @@ def register_fonts() -> frozenset[int]:
     for bold, italic, name in ((0, 0, FONT), (1, 0, FONT_BOLD), (0, 1, FONT_ITALIC), (1, 1, FONT_BOLD_ITALIC)):
         addMapping(FONT, bold, italic, name)
     return frozenset(covered or ())
+
+
+def _cache_widths(font) -> None:
+    """Remember the width of each string drawn in ``font`` (reportlab measures TrueType text in pure Python,
+    word by word, and a table measures every cell twice). The width scales with the size exactly."""
+    measure = font.stringWidth
+
+    @lru_cache(maxsize=1 << 16)
+    def per_point(text, encoding):
+        return measure(text, 1.0, encoding)
+
+    font.stringWidth = lambda text, size, encoding="utf8": per_point(text, encoding) * size
+
+
+@lru_cache(maxsize=1)
+def paragraph_class():
+    """A reportlab Paragraph that lays itself out once per width: tables wrap each cell to measure the row and
+    again to draw it, and the second layout is the first one's."""
+    from reportlab.platypus import Paragraph
+
+    class LaidOnceParagraph(Paragraph):
+        _laid_out: tuple | None = None
+
+        def wrap(self, avail_width, avail_height):
+            # split() drops the layout when the paragraph moves on: lay it out again then.
+            if self._laid_out is not None and self._laid_out[0] == avail_width and "blPara" in self.__dict__:
+                return self._laid_out[1]
+            size = super().wrap(avail_width, avail_height)
+            self._laid_out = (avail_width, size)
+            return size
+
+    return LaidOnceParagraph
 
 
 def plain_text(text: object) -> str:
@@ -194,16 +227,12 @@ def styles() -> dict:
 
 def P(text: object, style: str = "cell"):  # noqa: N802 - reads like the flowable it makes
     """A Paragraph of literal ``text`` (escaped) in one of :func:`styles`."""
-    from reportlab.platypus import Paragraph
-
-    return Paragraph(para_text(text), styles()[style])
+    return paragraph_class()(para_text(text), styles()[style])
 
 
 def PM(markup: str, style: str = "cell"):  # noqa: N802
     """A Paragraph of trusted markup built by this package (user text inside must go through para_text)."""
-    from reportlab.platypus import Paragraph
-
-    return Paragraph(markup, styles()[style])
+    return paragraph_class()(markup, styles()[style])
 
 
 @dataclass(frozen=True)
@@ -292,8 +321,10 @@ def content_width(rules: str) -> float:
 def build_pdf(story_for: Callable[[float], list], frame: PageFrame, rules: str, subject: str, author: str) -> bytes:
     """Lay out the flowables that ``story_for(width)`` returns and give back the whole PDF as bytes.
 
-    The document is built in memory, so a failure leaves nothing behind.
+    The document is built in memory, so a failure leaves nothing behind. Streams are deflated but not also
+    ASCII85-encoded (reportlab's default): smaller files, and that encoder is slow in pure Python.
     """
+    from reportlab import rl_config
     from reportlab.platypus import SimpleDocTemplate
 
     register_fonts()
@@ -303,7 +334,12 @@ def build_pdf(story_for: Callable[[float], list], frame: PageFrame, rules: str, 
         title=plain_text(f"{frame.doc_title} — {frame.project_name}")[:300], author=plain_text(author)[:200],
         subject=subject, creator=f"bankbuild {frame.version}", pageCompression=1, initialFontName=FONT,
         initialFontSize=8)
-    doc.build(story_for(doc.width), canvasmaker=_canvas_class(frame))
+    story = story_for(doc.width)
+    use_a85, rl_config.useA85 = rl_config.useA85, 0
+    try:
+        doc.build(story, canvasmaker=_canvas_class(frame))
+    finally:
+        rl_config.useA85 = use_a85
     return buffer.getvalue()
 
 
