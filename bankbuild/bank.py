@@ -3,6 +3,9 @@
 from __future__ import annotations
 
 from . import __version__
+from .assembly.bom import project_bom
+from .assembly.build import assemble_bank
+from .assembly.build import step_targets as planned_targets
 from .calc import capacitor as cap
 from .calc import detuning as det
 from .calc import power as pw
@@ -39,7 +42,8 @@ def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "
         version=__version__, rules=spec.rules, edition=basis.edition, spec_file=spec_path,
         spec_sha256=spec_sha256,
         tables=[TableUsed(file_name=t.file_name, sha256=t.sha256, notes=list(t.notes)) for t in catalogs.tables])
-    return ProjectResult(project=spec.project.model_dump(), provenance=prov, banks=banks, cautions=list(CAUTIONS))
+    return ProjectResult(project=spec.project.model_dump(), provenance=prov, banks=banks, cautions=list(CAUTIONS),
+                         bom=project_bom(banks))
 
 
 def need_summary(need: Need, voltage_v: float) -> NeedSummary:
@@ -78,15 +82,10 @@ def load_pq(load, voltage_v: float) -> tuple[float, float]:
     return p, pw.reactive_kvar(p, load.pf)
 
 
-def step_targets(bank: Bank, required_kvar: float) -> list[float]:
-    """kvar each step must deliver at the supply: explicit sizes, a count and pattern, or one fixed step."""
-    if isinstance(bank.steps, list):
-        return list(bank.steps)
-    if bank.steps is None:
-        return [required_kvar]
-    weights = bank.steps.weights()
-    unit = required_kvar / sum(weights)
-    return [w * unit for w in weights]
+def step_targets(bank: Bank, required_kvar: float, units=(), factor: float = 1.0) -> list[float]:
+    """kvar each step must deliver at the supply: explicit sizes, one fixed step, or the step plan that
+    :func:`bankbuild.assembly.build.step_targets` proposes from ``units`` (each delivering rated × ``factor``)."""
+    return planned_targets(bank, required_kvar, units, factor)
 
 
 def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> BankResult:
@@ -148,7 +147,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
             steps.append(_size_step(k + 1, choice.delivered_kvar, units, factor, bank, v_s, f_s, v_r, f_r, p,
                                     choice))
     else:
-        for k, target in enumerate(step_targets(bank, required), start=1):
+        for k, target in enumerate(step_targets(bank, required, units, factor), start=1):
             steps.append(_size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p))
     delivered = sum(s.kvar for s in steps)
     rated_kvar = sum(s.rated_kvar for s in steps)
@@ -198,7 +197,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
         available_v=available, rated_current_a=rated_current, main_conductor_ampacity_a=main.conductor_ampacity_a,
         main_conductor=main.conductor, ctx=ctx)
     checks.extend(system_checks)
-    return BankResult(
+    result = BankResult(
         name=bank.name, rules=spec.rules, connection=bank.connection, supply_voltage_v=v_s, frequency_hz=f_s,
         transformer_kva=supply.transformer_kva, transformer_z_pct=supply.transformer_z_pct, need=need,
         required_kvar=required, delivered_kvar=delivered, capacitor_voltage_v=v_r, rated_kvar=rated_kvar,
@@ -206,6 +205,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
         capacitance_uf_per_phase=cap.capacitance_uf_per_leg(rated_kvar, v_r, f_r, bank.connection),
         detuning_pct=bank.detuning_pct, steps=sized, main=main, discharge=discharge, resonance=resonance,
         voltage_rise_pct=rise, checks=checks, system=system)
+    return assemble_bank(result, bank, catalogs, ctx, units)
 
 
 def _basis_text(rated_a: float, line_a: float) -> str:

@@ -72,6 +72,134 @@ class Detuning(_Frozen):
     reactor_current_a: float
 
 
+class StepPlanResult(_Frozen):
+    """How the step sizes were chosen, and every kvar value the controller can reach with them."""
+
+    form: str  # fixed | list | plan
+    pattern: str  # the weights per step, e.g. "1:2:2:2:2:2"; "" for a fixed bank
+    rule: str  # how the sizes were chosen, with the numbers
+    step_kvar: list[float]  # delivered at the supply, per step
+    resolution_kvar: float  # the smallest step
+    reachable_kvar: list[float]  # every sum of steps, 0 included (empty when there are too many to list)
+    reachable_count: int
+    largest_gap_kvar: float  # the widest jump between two reachable values
+    note: str = ""
+
+
+class StepReactor(_Frozen):
+    """The detuning reactor of one step: what it must be, what was picked, and the voltage the units see."""
+
+    tuning_pct: float
+    tuning_frequency_hz: float
+    required_inductance_mh: float  # per phase, wye equivalent
+    fundamental_current_a: float
+    harmonic_voltage_pct: dict[int, float]  # the stated supply distortion the rating allows for
+    harmonic_current_pct: dict[int, float]  # what that drives through the step, % of the fundamental
+    required_current_a: float  # rms: fundamental and harmonics
+    capacitor_voltage_v: float  # fundamental, V / (1 − p)
+    capacitor_voltage_rms_v: float  # with the harmonic voltages, rms
+    capacitor_voltage_sum_v: float  # fundamental plus harmonics added arithmetically (peak, as rms equivalent)
+    unit_voltage_v: float
+    voltage_margin_pct: float  # unit rated voltage over the fundamental capacitor voltage, − 1
+    voltage_ok: bool
+    reactor: Pick | None  # None: no table reactor fits; one is made to order
+    inductance_mh: float  # of the reactor used
+    current_rating_a: float
+    actual_tuning_frequency_hz: float  # with the inductance used
+    losses_w: float
+    made_to_order: bool
+
+
+class StepSwitching(_Frozen):
+    """The contactor of one automatic step and the inrush it must make."""
+
+    contactor: Pick | None
+    damping: str  # none | resistors
+    required_current_a: float
+    contactor_current_a: float  # capacitor-duty current of the contactor at the supply voltage
+    energising_peak_a: float | None  # the step switched alone (needs the transformer)
+    back_to_back_peak_a: float | None  # the step switched with every other step on
+    loop_inductance_uh: float | None
+    inrush_frequency_hz: float | None
+    capacitor_limit_a: float  # 100 × the step's rated current
+    contactor_limit_a: float
+    damping_needed: bool
+    damping_reactor_uh: float | None  # added inductance per phase still needed, if any
+    coil_sealed_va: float
+    coil_inrush_va: float
+    losses_w: float
+
+
+class InrushSummary(_Frozen):
+    """Inrush of the bank: the first step energised alone and the last step switched against the others."""
+
+    inter_step_inductance_uh: float  # assumed (spec assembly.inter_step_inductance_uh)
+    source_inductance_uh: float | None
+    short_circuit_current_a: float | None
+    energising_peak_a: float | None
+    back_to_back_peak_a: float | None
+    back_to_back_frequency_hz: float | None
+    damping_needed: bool
+    damping: str
+
+
+class Reconnection(_Frozen):
+    """How long an automatic step must stay off before it is switched on again."""
+
+    start_voltage_v: float
+    limit_10pct_v: float
+    time_to_10pct_s: float
+    time_to_50v_s: float
+    delay_s: float
+    rule: str
+
+
+class ControlResult(_Frozen):
+    """Controller, current transformer and control circuit of an automatic bank."""
+
+    controller: Pick | None
+    outputs_needed: int
+    ct: Pick | None
+    ct_basis_a: float | None  # the load current the CT must carry
+    ct_basis: str  # where that figure comes from
+    ct_burden_needed_va: float
+    smallest_step_secondary_a: float | None  # the smallest step's current seen on the CT secondary
+    control_voltage_v: float
+    control_load_va: float
+    control_transformer: Pick | None
+    primary_fuse: Pick | None
+    secondary_fuse: Pick | None
+    measuring_fuse: Pick | None
+    losses_w: float
+
+
+class LossLine(_Frozen):
+    """One group of heat sources inside the enclosure."""
+
+    item: str
+    qty: int
+    each_w: float
+    total_w: float
+    source: str
+
+
+class EnclosureResult(_Frozen):
+    """Heat in the enclosure, the ventilation it needs, and the main busbars."""
+
+    losses: list[LossLine]
+    total_losses_w: float
+    ambient_c: float
+    temperature_rise_k: float
+    air_density_kg_m3: float
+    airflow_m3_per_h: float
+    fan: Pick | None
+    fan_qty: int
+    busbar: Pick | None
+    busbar_required_a: float
+    busbar_derating: float
+    busbar_rating_a: float  # the picked bars' rating times the derating
+
+
 class Step(_Frozen):
     index: int
     target_kvar: float
@@ -87,6 +215,8 @@ class Step(_Frozen):
     conductor_ampacity_a: float
     sizing: list[SizingLine]
     detuning: Detuning | None = None
+    reactor: StepReactor | None = None
+    switching: StepSwitching | None = None
 
 
 class Main(_Frozen):
@@ -250,6 +380,11 @@ class BankResult(_Frozen):
     checks: list[Check]
     bom: list[BomLine] = []
     system: SystemResult | None = None
+    step_plan: StepPlanResult | None = None
+    inrush: InrushSummary | None = None
+    reconnection: Reconnection | None = None
+    control: ControlResult | None = None
+    enclosure: EnclosureResult | None = None
 
 
 class TableUsed(_Frozen):

@@ -9,6 +9,98 @@ def _fmt_a(value: float) -> str:
     return f"{value:,.1f} A"
 
 
+WIDTH = 100
+
+
+def _clip(text: str, width: int = WIDTH) -> str:
+    """Cut a line to the terminal width, marking the cut."""
+    return text if len(text) <= width else text[: width - 1] + "…"
+
+
+def _groups(steps, key) -> list[tuple[str, list[int]]]:
+    """Consecutive-or-not steps sharing the same text, in first-seen order: [(text, [indices])]."""
+    seen: dict[str, list[int]] = {}
+    for step in steps:
+        text = key(step)
+        if text:
+            seen.setdefault(text, []).append(step.index)
+    return list(seen.items())
+
+
+def _which(indices: list[int]) -> str:
+    if len(indices) == 1:
+        return f"step {indices[0]}"
+    if indices == list(range(indices[0], indices[-1] + 1)):
+        return f"steps {indices[0]}–{indices[-1]}"
+    return "steps " + ",".join(map(str, indices))
+
+
+def assembly_lines(bank: BankResult) -> list[str]:
+    """The orderable assembly in a few lines: step plan, reactors, switching, control, enclosure."""
+    out: list[str] = []
+    plan = bank.step_plan
+    if plan is not None:
+        form = f"pattern {plan.pattern}" if plan.form == "plan" else plan.form
+        out.append(f"  step plan     {form}: resolution {plan.resolution_kvar:,.1f} kvar; {plan.reachable_count} "
+                   f"values from 0 to {sum(plan.step_kvar):,.1f} kvar; largest gap {plan.largest_gap_kvar:,.1f} kvar")
+    reactors = _groups(bank.steps, lambda s: (
+        "" if s.reactor is None else
+        f"{s.reactor.reactor.designation if s.reactor.reactor else 'made to order'} "
+        f"{s.reactor.inductance_mh:.3g} mH {s.reactor.current_rating_a:.0f} A"))
+    if reactors:
+        first = next(s.reactor for s in bank.steps if s.reactor)
+        out.append(_clip(f"  reactors      {first.tuning_pct:g}% ({first.tuning_frequency_hz:.0f} Hz): "
+                         + "; ".join(f"{_which(ix)} {text}" for text, ix in reactors)
+                         + f"; units see {first.capacitor_voltage_v:.0f} V"))
+    contactors = _groups(bank.steps, lambda s: (
+        "" if s.switching is None else
+        (s.switching.contactor.designation if s.switching.contactor else "NONE FITS")
+        + (" with damping resistors" if s.switching.damping == "resistors" else "")))
+    if contactors:
+        out.append(_clip("  contactors    " + "; ".join(f"{_which(ix)} {text}" for text, ix in contactors)))
+    inrush = bank.inrush
+    if inrush is not None and (inrush.energising_peak_a or inrush.back_to_back_peak_a):
+        parts = []
+        if inrush.energising_peak_a:
+            parts.append(f"energising {inrush.energising_peak_a:,.0f} A peak")
+        if inrush.back_to_back_peak_a:
+            parts.append(f"back-to-back {inrush.back_to_back_peak_a:,.0f} A peak "
+                         f"(L {inrush.inter_step_inductance_uh:g} µH assumed between steps)")
+        out.append(_clip("  inrush        " + ", ".join(parts) + f"; damping: {inrush.damping}"))
+    if bank.reconnection is not None:
+        out.append(f"  reconnect     wait ≥ {bank.reconnection.delay_s:g} s before a step switches on again "
+                   "(≤ 10% and ≤ 50 V)")
+    control = bank.control
+    if control is not None and control.controller is not None:
+        ct = f"CT {control.ct.value:g}/{_ct_secondary(control)} A" if control.ct else "CT to suit (load unknown)"
+        cpt = (f", {control.control_transformer.designation} {bank.supply_voltage_v:g}/{control.control_voltage_v:g} V"
+               if control.control_transformer else "")
+        out.append(_clip(f"  control       {control.controller.designation} ({control.outputs_needed} outputs), "
+                         f"{ct}{cpt}"))
+    encl = bank.enclosure
+    if encl is not None:
+        fans = f"{encl.fan_qty} × {encl.fan.designation}" if encl.fan else "no fan"
+        bars = f"busbar {encl.busbar.designation}" if encl.busbar else "NO BUSBAR FITS"
+        out.append(_clip(f"  enclosure     {encl.total_losses_w:,.0f} W inside; {encl.airflow_m3_per_h:,.0f} m³/h for "
+                         f"{encl.temperature_rise_k:g} K at {encl.ambient_c:g} °C: {fans}; {bars}"))
+    return out
+
+
+def _ct_secondary(control) -> str:
+    return control.ct.designation.rsplit("-", 1)[-1] if control.ct else ""
+
+
+def bom_lines(bank: BankResult) -> list[str]:
+    """The bank's bill of materials, one clipped line per item."""
+    if not bank.bom:
+        return []
+    out = [f"  bill of materials ({len(bank.bom)} lines; full text in bill-of-materials.csv / .xlsx / .json)"]
+    for line in bank.bom:
+        qty = f"{line.qty:g}"
+        out.append(_clip(f"    {line.item:>2}  {qty:>4} {line.unit:<3}  {line.description}"))
+    return out
+
+
 def bank_summary(bank: BankResult) -> list[str]:
     """Lines of text that summarise one bank."""
     out = [f"== {bank.name} ==",
@@ -42,6 +134,7 @@ def bank_summary(bank: BankResult) -> list[str]:
     if bank.resonance:
         orders = ", ".join(f"{pt.harmonic_order:.2f}" for pt in bank.resonance)
         out.append(f"  resonance h   {orders}")
+    out.extend(assembly_lines(bank))
     flagged = [c for c in bank.checks if not c.ok]
     out.append(f"  checks        {len(bank.checks) - len(flagged)} met, {len(flagged)} flagged")
     for check in flagged:
@@ -49,6 +142,7 @@ def bank_summary(bank: BankResult) -> list[str]:
     for check in bank.checks:
         if check.ok and check.level == "info":  # figures to act on, e.g. a motor's overload relay setting
             out.append(f"    NOTE  {check.name}: {check.detail}")
+    out.extend(bom_lines(bank))
     return out
 
 
@@ -58,6 +152,9 @@ def project_summary(result: ProjectResult, written: list[str] | None = None) -> 
              f"rule basis: {result.provenance.edition}", ""]
     for bank in result.banks:
         lines.extend(bank_summary(bank))
+        lines.append("")
+    if result.bom and len(result.banks) > 1:
+        lines.append(f"project bill of materials: {len(result.bom)} lines, the banks' parts merged (in the files)")
         lines.append("")
     if written:
         lines.append("written:")

@@ -16,9 +16,13 @@ def _writers() -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
     from .jsonout import project_json
     from .pdf_bom import bom_pdf
     from .pdf_worksheet import worksheet_pdf
+    from .tables import bom_csv, bom_json, bom_xlsx
 
     return [("results.json", lambda r: project_json(r).encode("utf-8")),
             ("bill-of-materials.pdf", bom_pdf),
+            ("bill-of-materials.csv", bom_csv),
+            ("bill-of-materials.xlsx", bom_xlsx),
+            ("bill-of-materials.json", bom_json),
             ("protection-worksheet.pdf", worksheet_pdf)]
 
 
