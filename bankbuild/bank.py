@@ -34,9 +34,17 @@ from .system_checks import system_figures
 HARMONICS = (5, 7, 11, 13)
 
 
-def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "") -> ProjectResult:
-    """Size every bank of ``spec`` against ``catalogs``; raises SpecError only for spec/table mismatches."""
-    banks = [size_bank(bank, i, spec, catalogs, spec_path) for i, bank in enumerate(spec.banks)]
+def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "",
+                 on_bank=None) -> ProjectResult:
+    """Size every bank of ``spec`` against ``catalogs``; raises SpecError only for spec/table mismatches.
+
+    ``on_bank(done, total, name)``, if given, is called after each bank (a progress bar; no I/O here).
+    """
+    banks = []
+    for i, bank in enumerate(spec.banks):
+        banks.append(size_bank(bank, i, spec, catalogs, spec_path))
+        if on_bank is not None:
+            on_bank(i + 1, len(spec.banks), bank.name)
     basis = rule_basis(spec.rules, spec.nec_edition)
     prov = Provenance(
         version=__version__, rules=spec.rules, edition=basis.edition, spec_file=spec_path,

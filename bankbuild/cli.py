@@ -31,13 +31,15 @@ CatOpt = Annotated[Path | None, typer.Option("--catalogs", help="Folder of ratin
 
 
 def _run_size(spec_path: Path, out: Path, as_json: bool, catalogs_dir: Path | None, label: str) -> None:
+    from .progress import Progress
     from .reports.jsonout import project_json
     from .reports.terminal import project_summary
     from .reports.writer import write_documents
     from .runner import run_spec
 
-    result = run_spec(spec_path, catalogs_dir, label=label)
-    written = write_documents(result, out)
+    with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
+        result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"))
+        written = write_documents(result, out, on_document=progress.callback("writing documents"))
     if as_json:
         typer.echo(project_json(result))
     else:

@@ -122,13 +122,13 @@ class Load(_Strict):
 
     @model_validator(mode="after")
     def _check_form(self) -> Load:
-        given = {k for k in self.model_fields_set if k not in ("name", "quantity")}
+        given = {k for k in self.model_fields_set if k not in ("name", "quantity") and getattr(self, k) is not None}
         _one_form(given, LOAD_FORMS, "load")
         return self
 
     @property
     def form(self) -> str:
-        given = {k for k in self.model_fields_set if k not in ("name", "quantity")}
+        given = {k for k in self.model_fields_set if k not in ("name", "quantity") and getattr(self, k) is not None}
         return _one_form(given, LOAD_FORMS, "load")
 
 
@@ -150,7 +150,7 @@ class Need(_Strict):
 
     @model_validator(mode="after")
     def _check_form(self) -> Need:
-        form = _one_form(set(self.model_fields_set), NEED_FORMS, "need")
+        form = _one_form({k for k in self.model_fields_set if getattr(self, k) is not None}, NEED_FORMS, "need")
         if form == "power" and self.pf_target < self.pf_present:
             raise ValueError(
                 f"pf_target {self.pf_target} is below pf_present {self.pf_present}: a capacitor bank raises "
@@ -160,7 +160,7 @@ class Need(_Strict):
 
     @property
     def form(self) -> str:
-        return _one_form(set(self.model_fields_set), NEED_FORMS, "need")
+        return _one_form({k for k in self.model_fields_set if getattr(self, k) is not None}, NEED_FORMS, "need")
 
 
 class StepPlan(_Strict):

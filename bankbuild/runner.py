@@ -54,8 +54,11 @@ def _tables_stay_inside(spec_file, folder: Path, base: Path) -> None:
         raise SpecError(spec_file.path, "catalogs", f"cannot read the folder ({exc.strerror or exc})") from None
 
 
-def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | None = None):
-    """Read ``spec_path``, load the tables (``catalogs_dir`` beats the spec's own), size every bank."""
+def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | None = None, on_bank=None):
+    """Read ``spec_path``, load the tables (``catalogs_dir`` beats the spec's own), size every bank.
+
+    ``on_bank(done, total, name)`` is passed to :func:`bankbuild.bank.size_project` (a progress bar).
+    """
     from .bank import size_project
     from .catalogs import load_catalogs
     from .specfile import read_spec
@@ -64,4 +67,4 @@ def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | Non
     tables_dir = catalogs_dir if catalogs_dir is not None else spec_catalogs_dir(spec_file)
     catalogs = load_catalogs(tables_dir)
     return size_project(spec_file.spec, catalogs, spec_path=label or spec_file.path,
-                        spec_sha256=spec_file.sha256)
+                        spec_sha256=spec_file.sha256, on_bank=on_bank)

@@ -26,12 +26,20 @@ def _writers() -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
             ("protection-worksheet.pdf", worksheet_pdf)]
 
 
-def write_documents(result: ProjectResult, out_dir: Path) -> list[Path]:
+def write_documents(result: ProjectResult, out_dir: Path, on_document=None) -> list[Path]:
     """Render every document in memory, then write each atomically into ``out_dir``.
 
     Nothing is written unless every document rendered, and no reader ever sees a half-written file.
+    ``on_document(done, total, name)``, if given, is called before each document is rendered and at the end.
     """
-    rendered = [(name, render(result)) for name, render in _writers()]
+    writers = _writers()
+    rendered = []
+    for i, (name, render) in enumerate(writers):
+        if on_document is not None:
+            on_document(i, len(writers), name)
+        rendered.append((name, render(result)))
+    if on_document is not None:
+        on_document(len(writers), len(writers), "")
     try:
         out_dir.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
