@@ -18,6 +18,7 @@ from collections import Counter
 
 from . import __version__
 from .bank import size_bank
+from .calc import capacitor as cap
 from .errors import OptionError
 from .models import Bank, LightLoad, Spec, Supply, UnitCount
 from .rerate_results import BomChange, ItemFit, RerateBank, RerateResult, RerateStep
@@ -77,8 +78,11 @@ def moved_bank(bank: Bank, result: BankResult, supply: Supply) -> Bank:
     """
     ratio = supply.frequency_hz / bank.supply.frequency_hz
     detuning = bank.detuning_pct * ratio**2 if bank.detuning_pct else None
+    # An automatic bank stays automatic (its contactors are checked too): its step list rides along with the
+    # units, which decide the steps; the model's "steps or units" rule is for what a user writes.
+    steps = [s.kvar for s in result.steps] if bank.steps is not None else None
     return bank.model_copy(update={
-        "supply": supply, "units": existing_units(result), "steps": None, "capacitor_voltage_v": None,
+        "supply": supply, "units": existing_units(result), "steps": steps, "capacitor_voltage_v": None,
         "detuning_pct": detuning, "light_load": _light_load(bank)})
 
 
@@ -123,8 +127,8 @@ def rerate_bank(bank: Bank, index: int, spec: Spec, catalogs, voltage_v: float, 
         rated_current_a=at_new.rated_current_a, original_line_current_a=original.line_current_a,
         line_current_a=at_new.line_current_a, original_tuning_pct=bank.detuning_pct, tuning_pct=moved.detuning_pct,
         tuning_frequency_hz=tuning.tuning_frequency_hz if tuning else None, steps=steps,
-        items=item_fits(original, at_new, resized), checks=at_new.checks, at_new_supply=at_new, resized=resized,
-        bom_basis=basis, bom_difference=diff)
+        items=item_fits(original, at_new, resized, getattr(catalogs, "contactors", ())), checks=at_new.checks,
+        at_new_supply=at_new, resized=resized, bom_basis=basis, bom_difference=diff)
 
 
 # -- what still fits ------------------------------------------------------------------------------------------
@@ -141,12 +145,37 @@ def _fit(item: str, installed: float, required: float, unit: str, installed_text
     if fits and lowered and installed > required + EPS:
         detail = f"larger than needed: {required_text} would do"
     elif not fits:
-        detail = f"below the {required:g} {unit} needed"
+        detail = f"below the {required:.1f} {unit} needed".replace(".0 ", " ")
     return ItemFit(item=item, installed=installed_text, required=required_text, fits=fits,
                    action="keep" if fits else "change", detail=detail)
 
 
-def item_fits(original: BankResult, at_new: BankResult, resized: BankResult) -> list[ItemFit]:
+def _contactor_fit(k: int, old, new, rows, voltage_v: float) -> ItemFit | None:
+    """The installed step contactor (its frame, from the contactor table) against the step at the new supply."""
+    old_sw, new_sw = getattr(old, "switching", None), getattr(new, "switching", None)
+    if old_sw is None or new_sw is None or old_sw.contactor is None:
+        return None
+    name = old_sw.contactor.designation
+    frames = [r for r in rows if r.contactor_id == name and r.voltage_v >= voltage_v - EPS]
+    row = min(frames, key=lambda r: r.voltage_v) if frames else None
+    capacity = cap.line_current_a(row.max_kvar, row.voltage_v) if row is not None else 0.0
+    wanted = new_sw.contactor.designation if new_sw.contactor is not None else "none in the table"
+    needs_damping = new_sw.damping_needed and old_sw.damping == "none"
+    fits = row is not None and capacity >= new_sw.required_current_a - EPS and not needs_damping
+    if row is None:
+        detail = f"the contactor table has no {name} row for {voltage_v:g} V"
+    elif capacity < new_sw.required_current_a - EPS:
+        detail = f"carries {capacity:.1f} A at {row.voltage_v:g} V; the step needs {new_sw.required_current_a:.1f} A"
+    elif needs_damping:
+        detail = "the inrush here needs damping resistors or reactors"
+    else:
+        detail = ""
+    return ItemFit(item=f"Step {k} contactor", installed=f"{name} ({old_sw.damping})", required=wanted,
+                   fits=fits, action="keep" if fits else "change", detail=detail)
+
+
+def item_fits(original: BankResult, at_new: BankResult, resized: BankResult,
+              contactor_rows=()) -> list[ItemFit]:
     """Each installed part (from the original sizing) against what the same units need at the new supply."""
     items: list[ItemFit] = []
     device = "fuse" if original.main.device == "fuse" else "breaker"
@@ -170,9 +199,14 @@ def item_fits(original: BankResult, at_new: BankResult, resized: BankResult) -> 
                           f"{new.conductor} ({new.conductor_ampacity_a:g} A)", lowered=False))
         if old.detuning is not None and new.detuning is not None:
             tuning_ok = at_new.system.tuning is None or at_new.system.tuning.ok
-            fit = _fit(f"Step {k} reactor", old.detuning.reactor_current_a, new.detuning.reactor_current_a, "A",
-                       f"{old.detuning.reactor_inductance_mh:.3f} mH, {old.detuning.reactor_current_a:.1f} A",
-                       f"{new.detuning.reactor_current_a:.1f} A", lowered=False)
+            installed, needed = getattr(old, "reactor", None), getattr(new, "reactor", None)
+            if installed is not None and needed is not None:  # the reactor picked, rated with harmonics
+                have_a, need_a, mh = installed.current_rating_a, needed.required_current_a, installed.inductance_mh
+            else:
+                have_a, need_a = old.detuning.reactor_current_a, new.detuning.reactor_current_a
+                mh = old.detuning.reactor_inductance_mh
+            fit = _fit(f"Step {k} reactor", have_a, need_a, "A", f"{mh:.3f} mH, {have_a:.1f} A",
+                       f"{mh:.3f} mH, ≥ {need_a:.1f} A", lowered=False)
             if not tuning_ok:
                 r = alt.detuning
                 want = (f"{r.reactor_inductance_mh:.3f} mH, {r.reactor_current_a:.1f} A (p = {r.tuning_pct:g}%)"
@@ -182,6 +216,9 @@ def item_fits(original: BankResult, at_new: BankResult, resized: BankResult) -> 
                     "detail": f"tuned to {new.detuning.tuning_frequency_hz:.0f} Hz = order "
                               f"{new.detuning.tuning_order:.2f} here: too near the 5th"})
             items.append(fit)
+        contactor = _contactor_fit(k, old, new, contactor_rows, at_new.supply_voltage_v)
+        if contactor is not None:
+            items.append(contactor)
     main_old, main_new = original.main, at_new.main
     items.append(_fit(f"Main {device}", main_old.device_rating_a, main_new.device_rating_a, "A",
                       f"{main_old.device_rating_a:g} A", f"{main_new.device_rating_a:g} A"))

@@ -166,6 +166,28 @@ def test_moving_up_in_voltage_and_frequency_changes_units_and_protection(rerate)
         assert all(u.rated_voltage_v >= 480 and u.rated_frequency_hz == 60 for u in step.units)
 
 
+def test_contactors_checked_at_the_new_voltage(rerate, catalogs):
+    from bankbuild.results import Step
+
+    if "switching" not in Step.model_fields:
+        pytest.skip("the assembly (step contactors) is not part of the results yet")
+    # Source: the contactor table's frame ratings (one row per frame and voltage): a frame's capacitor-duty
+    # current at 600 V is its kvar there / (√3 × 600 V); the step's current rises with V (re-rating formula).
+    data = spec(bank(need={"kvar": 150}, steps=[25, 25, 50, 50]))
+    result = rerate(data, 600.0).banks[0]
+    fits = {i.item: i for i in result.items}
+    for step in result.at_new_supply.steps:
+        item = fits[f"Step {step.index} contactor"]
+        frame = item.installed.split(" ")[0]
+        row = min((r for r in catalogs.contactors if r.contactor_id == frame and r.voltage_v >= 600),
+                  key=lambda r: r.voltage_v)
+        capacity = row.max_kvar * 1000 / (math.sqrt(3) * row.voltage_v)
+        assert item.fits is (capacity >= step.switching.required_current_a and
+                             not (step.switching.damping_needed and "(none)" in item.installed))
+    lower = {i.item: i for i in rerate(data, 440.0).banks[0].items}
+    assert all(lower[f"Step {k} contactor"].fits for k in range(1, 5))  # a lower voltage draws less current
+
+
 def test_resized_bank_restores_each_step(rerate):
     data = spec(bank(need={"kvar": 150}, steps=[25, 25, 50, 50]))
     result = rerate(data, 415.0, 50.0).banks[0]
