@@ -206,6 +206,8 @@ def test_worksheet_shows_every_sizing_line_of_main_and_steps(demo, demo_text):
             assert squash(line.rule) in text
             assert f"{line.required_a:,.1f}A" in text
             assert squash(line.chosen) in text
+            if line.item.startswith("Conductor") and line.chosen_a > 0:  # the ampacity beside the size
+                assert squash(line.chosen) + f":{line.chosen_a:,.0f}A" in text
             assert f"×{line.factor:g}" in text
         for step in bank.steps:
             assert f"{step.rated_current_a:,.1f}A" in text
@@ -426,6 +428,15 @@ def test_escaping_is_lossless_for_any_text(text):
 def test_drawable_text_uses_only_covered_glyphs(text):
     covered = register_fonts()
     assert all(ord(ch) in covered for ch in plain_text(text))
+
+
+def test_a_row_taller_than_a_page_is_one_error_line_not_a_traceback(demo):
+    from bankbuild.errors import BankbuildError
+
+    line = BomLine(item=1, qty=1.0, unit="pcs", category="c", description="unit", notes="very long note " * 3000)
+    bank = demo.banks[0].model_copy(update={"bom": [line]})
+    with pytest.raises(BankbuildError, match="Bill of materials: layout: cannot lay out"):
+        bom_pdf(demo.model_copy(update={"banks": [bank]}))
 
 
 # --- writing -----------------------------------------------------------------------------------------------------

@@ -19,6 +19,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
 
+from ..errors import BankbuildError
 from ..results import ProjectResult
 
 FONT = "BankbuildSans"
@@ -334,10 +335,15 @@ def build_pdf(story_for: Callable[[float], list], frame: PageFrame, rules: str, 
         title=plain_text(f"{frame.doc_title} — {frame.project_name}")[:300], author=plain_text(author)[:200],
         subject=subject, creator=f"bankbuild {frame.version}", pageCompression=1, initialFontName=FONT,
         initialFontSize=8)
+    from reportlab.platypus.doctemplate import LayoutError
+
     story = story_for(doc.width)
     use_a85, rl_config.useA85 = rl_config.useA85, 0
     try:
         doc.build(story, canvasmaker=_canvas_class(frame))
+    except LayoutError as exc:  # e.g. one table row taller than a page: a line, not a traceback
+        detail = str(exc).splitlines()[0][:160]
+        raise BankbuildError(frame.doc_title, "layout", f"cannot lay out the document ({detail})") from None
     finally:
         rl_config.useA85 = use_a85
     return buffer.getvalue()

@@ -146,11 +146,26 @@ def detuning_table(bank: BankResult, width: float):
 
 def sizing_row(line: SizingLine) -> list:
     """One worksheet row from one sizing line."""
-    chosen = para_text(line.chosen)
-    if line.note:
-        chosen += f'<br/><font name="{FONT}" size="6.6"><i>{para_text(line.note)}</i></font>'
+    text = chosen_text(line)
+    chosen = PM(f'{para_text(text)}<br/><font name="{FONT}" size="6.6"><i>{para_text(line.note)}</i></font>'
+                ) if line.note else C(text)
     return [C(line.item, "cell_bold"), C(line.formula), C(f"× {gnum(line.factor)}"), C(line.rule, "small"),
-            C(num(line.required_a, 1, "A"), "cell_right"), PM(chosen), verdict(line.ok)]
+            C(num(line.required_a, 1, "A"), "cell_right"), chosen, verdict(line.ok)]
+
+
+def chosen_text(line: SizingLine) -> str:
+    """The chosen rating, with its ampere value where the designation does not show it (a conductor's ampacity).
+
+    >>> row = dict(item="Conductor ampacity", formula="", basis_a=50.5, factor=1.35, required_a=68.2, rule="",
+    ...            ok=True)
+    >>> chosen_text(SizingLine(chosen="4 AWG (Cu 75 °C)", chosen_a=85.0, **row))
+    '4 AWG (Cu 75 °C): 85 A'
+    >>> chosen_text(SizingLine(chosen="90 A", chosen_a=90.0, **row))
+    '90 A'
+    """
+    if line.chosen_a <= 0 or f"{line.chosen_a:g} A" in line.chosen:
+        return line.chosen
+    return f"{line.chosen}: {num(line.chosen_a, 0, 'A')}"
 
 
 def design_current_text(rated_a: float, operating_a: float, design_a: float) -> str:
