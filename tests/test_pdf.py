@@ -350,6 +350,34 @@ def test_worksheet_discharge_resistance_meets_the_rule_by_electricpy(tmp_path):
     assert residual == pytest.approx(50.0, abs=0.05)  # R and C printed to 0.5 Ω and 0.05 µF
 
 
+def test_a_rule_the_result_cannot_meet_is_a_flag_on_the_worksheet(tmp_path):
+    spec = {"banks": [{"name": "Big bank", "supply": {"voltage_v": 480, "frequency_hz": 60},
+                       "need": {"kvar": 2000}, "protection": {"max_parallel_sets": 1}}]}
+    result = size_yaml(tmp_path, spec)
+    failed = [line for line in result.banks[0].main.sizing if not line.ok]
+    # 2000 kvar / (√3 × 480 V) × 1.35 ≈ 3,248 A: more than any single conductor of NEC Table 310.16 carries
+    assert failed
+    text = whole(worksheet_pdf(result))
+    assert "nonelargeenough" in text and "FLAG" in text
+
+
+def test_size_command_writes_the_pdfs_with_markup_in_names_shown_literally(tmp_path):
+    from bankbuild.cli import run
+
+    spec = {"project": {"name": "Plant <b>7</b> & co &amp; ]]>", "revision": "<i>C</i>"},
+            "banks": [{"name": "Bank <font size=40>A</font>", "supply": {"voltage_v": 480, "frequency_hz": 60},
+                       "need": {"kvar": 120}, "steps": [40, 40, 40]}]}
+    path = tmp_path / "hostile.yaml"
+    path.write_text(yaml.safe_dump(spec), encoding="utf-8")
+    out = tmp_path / "docs"
+    assert run(["size", str(path), "--out", str(out)]) == 0
+    for name in PDF_FILES:
+        text = whole((out / name).read_bytes())
+        assert "Plant<b>7</b>&co&amp;]]>" in text
+        assert "Bank<fontsize=40>A</font>" in text
+        assert "rev.<i>C</i>" in text
+
+
 def test_iec_worksheet_is_a4_with_iec_rules(tmp_path):
     spec = {"rules": "iec", "banks": [{"name": "Bank B", "supply": {"voltage_v": 400, "frequency_hz": 50},
                                         "need": {"kvar": 120}, "steps": [40, 40, 40]}]}
