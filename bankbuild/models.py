@@ -217,29 +217,30 @@ class DischargeRule(_Strict):
     time_s: Annotated[float, Field(gt=0, le=3600)]
 
 
-HARMONIC_VOLTAGE_PCT = {5: 6.0, 7: 5.0, 11: 3.5, 13: 3.0}
-"""Default harmonic voltages a detuned step is rated for [% of the fundamental]: the class 2 compatibility
-levels of IEC 61000-2-4 (and the public LV levels of IEC 61000-2-2) for orders 5, 7, 11, 13 - from memory.
-Triplen orders are left out: they do not flow in a three-wire delta bank."""
+HARMONIC_VOLTAGE_PCT = {"h5": 6.0, "h7": 5.0, "h11": 3.5, "h13": 3.0}
+"""Default harmonic voltages a detuned step is rated for [% of the fundamental], keyed ``h<order>``: the class 2
+compatibility levels of IEC 61000-2-4 (and the public LV levels of IEC 61000-2-2) for orders 5, 7, 11, 13 - from
+memory. Triplen orders are left out: they do not flow in a three-wire delta bank."""
+HarmonicKey = Annotated[str, Field(pattern=r"^h([2-9]|[1-4][0-9]|50)$")]
 
 
 class Assembly(_Strict):
     """Assumptions the orderable assembly rests on; the results state each one.
 
     ``inter_step_inductance_uh``: inductance per phase between two steps (cables and bars in one enclosure,
-    about 0.5-1 µH per metre) for back-to-back inrush. ``harmonic_voltage_pct``: supply harmonic voltages by
-    order that detuned steps are rated for. ``ambient_c`` and ``temperature_rise_k``: air around the enclosure
-    and the rise allowed inside it. ``busbar_derating``: busbar table rating kept inside the enclosure.
-    ``wiring_loss_pct``: allowance for wiring and busbar losses on top of the parts' losses.
-    ``contactor_factor``: multiplier on the step current a contactor's capacitor-duty rating must reach.
-    ``control_voltage_v``: the control circuit (default 120 V under nec, 230 V under iec).
-    ``ct_secondary_a``, ``ct_load_current_a`` (the load current the CT carries; default from the transformer or
-    the need) and ``ct_lead_length_m`` (one way, 2.5 mm² copper). ``reactor_tolerance_pct``: how far a table
-    reactor's inductance may be from the step's required inductance.
+    about 0.5-1 µH per metre) for back-to-back inrush. ``harmonic_voltage_pct``: supply harmonic voltages that
+    detuned steps are rated for, keyed by order as ``h5``, ``h7`` ... (``h2`` to ``h50``). ``ambient_c`` and
+    ``temperature_rise_k``: air around the enclosure and the rise allowed inside it. ``busbar_derating``: share
+    of the busbar table rating kept inside the enclosure. ``wiring_loss_pct``: allowance for wiring and busbar
+    losses on top of the parts' losses. ``contactor_factor``: multiplier on the step current a contactor's
+    capacitor-duty rating must reach. ``control_voltage_v``: the control circuit (default 120 V under nec,
+    230 V under iec). ``ct_secondary_a``, ``ct_load_current_a`` (the load current the CT carries; default from
+    the transformer or the need) and ``ct_lead_length_m`` (one way, 2.5 mm² copper). ``reactor_tolerance_pct``:
+    how far a table reactor's inductance may be from the step's required inductance.
     """
 
     inter_step_inductance_uh: Annotated[float, Field(gt=0, le=10_000)] = 5.0
-    harmonic_voltage_pct: dict[Annotated[int, Field(ge=2, le=50)], Annotated[float, Field(ge=0, le=30)]] = Field(
+    harmonic_voltage_pct: dict[HarmonicKey, Annotated[float, Field(ge=0, le=30)]] = Field(
         default_factory=lambda: dict(HARMONIC_VOLTAGE_PCT), max_length=49)
     ambient_c: Annotated[float, Field(ge=-20, le=60)] = 35.0
     temperature_rise_k: Annotated[float, Field(ge=1, le=40)] = 10.0
@@ -251,6 +252,11 @@ class Assembly(_Strict):
     ct_load_current_a: Annotated[float, Field(gt=0, le=100_000)] | None = None
     ct_lead_length_m: Annotated[float, Field(ge=0, le=1000)] = 5.0
     reactor_tolerance_pct: Annotated[float, Field(ge=0, le=20)] = 5.0
+
+    def harmonic_orders_pct(self) -> dict[int, float]:
+        """``harmonic_voltage_pct`` keyed by the order as a number: ``{"h5": 6.0}`` -> ``{5: 6.0}``."""
+        orders = {int(key[1:]): pct for key, pct in self.harmonic_voltage_pct.items()}
+        return dict(sorted(orders.items()))
 
 
 class UnitCount(_Strict):

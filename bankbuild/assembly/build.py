@@ -116,7 +116,7 @@ def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankR
 
     if result.detuning_pct:
         steps = [s.model_copy(update={"reactor": step_reactor(
-            s, v_s, f_s, result.detuning_pct, result.capacitor_voltage_v, opts.harmonic_voltage_pct,
+            s, v_s, f_s, result.detuning_pct, result.capacitor_voltage_v, opts.harmonic_orders_pct(),
             catalogs.reactors, opts.reactor_tolerance_pct)}) for s in steps]
         checks += _reactor_checks(steps, opts.reactor_tolerance_pct)
 

@@ -120,8 +120,8 @@ def pick_contactor(rows: Sequence, required_a: float, peak_a: float | None, capa
 
     The smallest frame that carries the current, without damping resistors when the prospective peak is within
     both its and the capacitor's limit (a larger frame is not chosen just to make the inrush: that is what
-    damping is for); else the smallest frame with damping resistors that carries the current and makes the
-    peak; else the smallest that carries the current (the caller then asks for damping reactors).
+    damping is for); else the smallest frame with damping resistors that carries the current, when it makes the
+    peak; else that frame all the same (the caller then asks for damping reactors).
 
     Returns
     -------
@@ -135,9 +135,8 @@ def pick_contactor(rows: Sequence, required_a: float, peak_a: float | None, capa
         return (plain or damped or [None])[0], False
     if plain and peak_a <= min(plain[0].max_peak_a, capacitor_limit_a):
         return plain[0], False
-    for r in damped:
-        if peak_a <= r.max_peak_a:
-            return r, True
+    if damped and peak_a <= damped[0].max_peak_a:
+        return damped[0], True
     return (damped or plain or [None])[0], True
 
 

@@ -45,13 +45,14 @@ def assembly_lines(bank: BankResult) -> list[str]:
                    f"values from 0 to {sum(plan.step_kvar):,.1f} kvar; largest gap {plan.largest_gap_kvar:,.1f} kvar")
     reactors = _groups(bank.steps, lambda s: (
         "" if s.reactor is None else
-        f"{s.reactor.reactor.designation if s.reactor.reactor else 'made to order'} "
-        f"{s.reactor.inductance_mh:.3g} mH {s.reactor.current_rating_a:.0f} A"))
+        f"{s.reactor.reactor.designation if s.reactor.reactor else 'made to order'}, "
+        f"{s.reactor.inductance_mh:.3g} mH, {s.reactor.current_rating_a:.0f} A "
+        f"(needs {s.reactor.required_current_a:.0f} A)"))
     if reactors:
         first = next(s.reactor for s in bank.steps if s.reactor)
-        out.append(_clip(f"  reactors      {first.tuning_pct:g}% ({first.tuning_frequency_hz:.0f} Hz): "
-                         + "; ".join(f"{_which(ix)} {text}" for text, ix in reactors)
-                         + f"; units see {first.capacitor_voltage_v:.0f} V"))
+        out.append(f"  reactors      p = {first.tuning_pct:g}% ({first.tuning_frequency_hz:.0f} Hz); units see "
+                   f"{first.capacitor_voltage_v:.0f} V, margin {first.voltage_margin_pct:.1f}% to their rating")
+        out += [_clip(f"                {_which(ix)}: {text}") for text, ix in reactors]
     contactors = _groups(bank.steps, lambda s: (
         "" if s.switching is None else
         (s.switching.contactor.designation if s.switching.contactor else "NONE FITS")
@@ -66,7 +67,8 @@ def assembly_lines(bank: BankResult) -> list[str]:
         if inrush.back_to_back_peak_a:
             parts.append(f"back-to-back {inrush.back_to_back_peak_a:,.0f} A peak "
                          f"(L {inrush.inter_step_inductance_uh:g} µH assumed between steps)")
-        out.append(_clip("  inrush        " + ", ".join(parts) + f"; damping: {inrush.damping}"))
+        out.append(_clip("  inrush        " + ", ".join(parts)))
+        out.append(_clip(f"                damping: {inrush.damping}"))
     if bank.reconnection is not None:
         out.append(f"  reconnect     wait ≥ {bank.reconnection.delay_s:g} s before a step switches on again "
                    "(≤ 10% and ≤ 50 V)")
