@@ -5,11 +5,14 @@ controllers, current transformers, enclosure fans, ...): write its row dataclass
 :class:`TableSchema` to :data:`TABLES`, add a field of the same name to :class:`bankbuild.catalogs.Catalogs`
 and ship the CSV in ``bankbuild/data/catalogs/``. The loading code does not change.
 
-pandas is imported inside :func:`cell_problems` only.
+The checks are plain Python (no pandas): the tables are small, and importing pandas would cost every run
+about a second.
 """
 
 from __future__ import annotations
 
+import math
+import re
 from dataclasses import dataclass
 from itertools import pairwise
 from typing import Any
@@ -252,51 +255,78 @@ def fmt(value: Any) -> str:
 
 # Control characters, and direction overrides that make printed text read differently from what it holds.
 CONTROL_CHARS = "[\x00-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]"
+# A decimal number as a table may hold it (ASCII digits, optional sign, point and exponent; no "1_000",
+# no "0x10", no thousands separators). NaN and infinity are recognised apart, to say they are not finite.
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+_NOT_FINITE = ("nan", "inf", "infinity")
 
 
-def cell_problems(column: Column, cells: Any) -> list[tuple[int, str]]:
-    """(line, problem) for the first bad cell of each check in one column (a pandas Series of text)."""
-    import pandas as pd
+def _number(text: str) -> float | None:
+    """The value of a number cell, or None when it is not a decimal number (NaN and infinity included)."""
+    return float(text) if _NUMBER.fullmatch(text) else None
 
+
+def cell_problems(column: Column, cells: dict[int, str]) -> list[tuple[int, str]]:
+    """(line, problem) for the first bad cell of each check in one column.
+
+    ``cells`` maps each data row's line number to its cell text (stripped), in file order. The checks run in
+    a fixed order, so that the loader can report the first problem in reading order (line, column, check).
+    Plain Python: the tables are small, and this keeps pandas (about a second to import) off every run.
+
+    Examples
+    --------
+    >>> rating = Column("rating_a", float, "A", 0.1, 10000.0)
+    >>> cell_problems(rating, {4: "15", 5: "twenty", 6: "-3", 7: "inf"})
+    [(5, "'twenty' is not a number"), (7, "'inf' is not a finite number"), (6, '-3 is outside 0.1 to 10000 A')]
+    """
     issues: list[tuple[int, str]] = []
 
-    def first(mask: Any, problem: Any) -> None:
-        if mask.any():
-            line = int(mask[mask].index[0])
-            issues.append((line, problem(line)))
+    def first(bad: Any, problem: Any) -> None:
+        for line, text in cells.items():
+            if bad(text):
+                issues.append((line, problem(text)))
+                return
 
-    empty = cells.eq("")
     if column.required:
-        first(empty, lambda n: "empty cell; a value is required")
-    filled = ~empty
+        first(lambda t: t == "", lambda t: "empty cell; a value is required")
     if column.dtype is str:
-        first(filled & cells.str.len().gt(column.max_length),
-              lambda n: f"text of {len(cells[n]):,} characters; at most {column.max_length} are allowed")
-        first(filled & cells.str.contains(CONTROL_CHARS, regex=True),
-              lambda n: "holds a control character; use printable text only")
+        control = re.compile(CONTROL_CHARS)
+        first(lambda t: len(t) > column.max_length,
+              lambda t: f"text of {len(t):,} characters; at most {column.max_length} are allowed")
+        first(lambda t: t != "" and control.search(t) is not None,
+              lambda t: "holds a control character; use printable text only")
         if column.allowed:
             allowed = ", ".join(map(str, column.allowed))
-            first(filled & ~cells.isin(column.allowed), lambda n: f"{fmt(cells[n])} is not one of {allowed}")
+            first(lambda t: t != "" and t not in column.allowed, lambda t: f"{fmt(t)} is not one of {allowed}")
         if column.pattern:
-            bad = filled & ~cells.str.fullmatch(column.pattern).fillna(False).astype(bool)
-            first(bad, lambda n: f"{fmt(cells[n])} is not in the expected form ({column.pattern})")
+            pattern = re.compile(column.pattern)
+            first(lambda t: t != "" and pattern.fullmatch(t) is None,
+                  lambda t: f"{fmt(t)} is not in the expected form ({column.pattern})")
         return issues
-    numbers = pd.to_numeric(cells.where(filled), errors="coerce")
+    values = {line: _number(text) for line, text in cells.items()}
+    literal = {line: text.lower().lstrip("+-") in _NOT_FINITE for line, text in cells.items()}
     unit = f" {column.unit}" if column.unit else ""
-    literal = cells.str.lower().str.lstrip("+-").isin(("nan", "inf", "infinity"))
-    text = filled & numbers.isna() & ~literal
-    first(text, lambda n: f"'{cells[n]}' is not a number")
-    first(filled & ~text & (numbers.isna() | numbers.abs().eq(float("inf"))),
-          lambda n: f"'{cells[n]}' is not a finite number")
-    ok = filled & numbers.notna() & numbers.abs().ne(float("inf"))
+
+    def check(bad: Any, problem: Any) -> None:
+        for line, text in cells.items():
+            if text != "" and bad(line, values[line]):
+                issues.append((line, problem(text)))
+                return
+
+    check(lambda n, v: v is None and not literal[n], lambda t: f"'{t}' is not a number")
+    check(lambda n, v: literal[n] or (v is not None and math.isinf(v)), lambda t: f"'{t}' is not a finite number")
+
+    def finite(bad: Any) -> Any:
+        return lambda n, v: v is not None and math.isfinite(v) and bad(v)
+
     if column.dtype is int:
-        first(ok & numbers.ne(numbers.round()), lambda n: f"{cells[n]} is not a whole number")
+        check(finite(lambda v: v != round(v)), lambda t: f"{t} is not a whole number")
     if column.minimum is not None and column.maximum is not None:
-        first(ok & ~numbers.between(column.minimum, column.maximum),
-              lambda n: f"{cells[n]} is outside {column.minimum:g} to {column.maximum:g}{unit}")
+        check(finite(lambda v: not column.minimum <= v <= column.maximum),
+              lambda t: f"{t} is outside {column.minimum:g} to {column.maximum:g}{unit}")
     if column.allowed:
         allowed = ", ".join(f"{v:g}" for v in column.allowed)
-        first(ok & ~numbers.isin(column.allowed), lambda n: f"{cells[n]} is not one of {allowed}{unit}")
+        check(finite(lambda v: v not in column.allowed), lambda t: f"{t} is not one of {allowed}{unit}")
     return issues
 
 

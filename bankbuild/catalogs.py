@@ -6,7 +6,7 @@ memory), then one header row, then the data rows. The schema of every table is d
 it does not hold come from the built-in folder.
 
 Every problem raises :class:`bankbuild.errors.CatalogError` naming the file, the row (its line number as an
-editor shows it, comment lines counted) and the column. pandas is imported inside the functions only.
+editor shows it, comment lines counted) and the column. The checks are plain Python (no pandas).
 """
 
 from __future__ import annotations
@@ -190,8 +190,6 @@ def _check_header(path: Path, schema: TableSchema, line: int, names: list[str]) 
 
 def _read_table(schema: TableSchema, path: Path) -> tuple[TableInfo, tuple[Any, ...]]:
     """Read and check one table file; its provenance and its rows as ``schema.row_type`` objects."""
-    import pandas as pd
-
     data, text = _read_text(path)
     notes, header_line, names, records = _split(path, text)
     _check_header(path, schema, header_line, names)
@@ -200,20 +198,22 @@ def _read_table(schema: TableSchema, path: Path) -> tuple[TableInfo, tuple[Any, 
             raise _fail(path, f"{len(cells)} cells, but the header has {len(names)} columns", line)
     if not records:
         raise _fail(path, f"no data rows after the header on row {header_line}; the table is empty")
-    frame = pd.DataFrame([c for _, c in records], index=[n for n, _ in records], columns=names, dtype=str)
-    frame = frame.apply(lambda s: s.str.strip())
+    cells: dict[str, dict[int, str]] = {name: {} for name in names}  # column -> line -> stripped text
+    for line, record in records:
+        for name, cell in zip(names, record, strict=True):
+            cells[name][line] = cell.strip()
     issues = []  # the first bad cell in reading order: by line, then column, then check
     for index, column in enumerate(schema.columns):
-        found = cell_problems(column, frame[column.name])
+        found = cell_problems(column, cells[column.name])
         issues += [(line, index, check, column.name, problem) for check, (line, problem) in enumerate(found)]
     if issues:
         line, _, _, name, problem = min(issues)
         raise _fail(path, problem, line, name)
     rows = []
-    for line, values in zip(frame.index, frame[list(schema.names)].itertuples(index=False), strict=True):
+    for line, _ in records:
         row: dict[str, Any] = {c.name: c.dtype(float(v)) if c.dtype is int else c.dtype(v)
-                               for c, v in zip(schema.columns, values, strict=True)}
-        rows.append(row | {"row": int(line)})
+                               for c in schema.columns for v in (cells[c.name][line],)}
+        rows.append(row | {"row": line})
     problem = row_problem(schema, rows)
     if problem:
         raise _fail(path, problem[2], problem[0], problem[1])

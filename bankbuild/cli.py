@@ -24,13 +24,16 @@ catalog_app = typer.Typer(no_args_is_help=True, rich_markup_mode=None,
                           help="Check the rating tables, or copy the built-in ones to edit.")
 app.add_typer(catalog_app, name="catalog")
 
-OutOpt = Annotated[Path, typer.Option("--out", help="Folder for the documents (created if missing).")]
+OutOpt = Annotated[Path | None, typer.Option("--out", help="Folder for the documents (created if missing); "
+                                                          "default bankbuild-out, or none with --json.")]
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print the results as one JSON document on stdout.")]
 CatOpt = Annotated[Path | None, typer.Option("--catalogs", help="Folder of rating tables that replace the "
                                                                 "built-in ones (overrides the spec's).")]
 
 
-def _run_size(spec_path: Path, out: Path, as_json: bool, catalogs_dir: Path | None, label: str) -> None:
+def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Path | None, label: str) -> None:
+    """Size, then write the documents: into ``out``, or ``bankbuild-out``; with ``--json`` only when ``--out``
+    is given, so that the JSON of a large plant comes in seconds without rendering every PDF page."""
     from .progress import Progress
     from .reports.jsonout import project_json
     from .reports.terminal import project_summary
@@ -39,7 +42,10 @@ def _run_size(spec_path: Path, out: Path, as_json: bool, catalogs_dir: Path | No
 
     with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
         result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"))
-        written = write_documents(result, out, on_document=progress.callback("writing documents"))
+        if out is None and not as_json:
+            out = Path("bankbuild-out")
+        written = [] if out is None else write_documents(result, out,
+                                                           on_document=progress.callback("writing documents"))
     if as_json:
         typer.echo(project_json(result))
     else:
@@ -48,7 +54,7 @@ def _run_size(spec_path: Path, out: Path, as_json: bool, catalogs_dir: Path | No
 
 @app.command()
 def size(spec: Annotated[Path, typer.Argument(help="The bank spec (YAML).")],
-         out: OutOpt = Path("bankbuild-out"), json: JsonOpt = False, catalogs: CatOpt = None) -> None:
+         out: OutOpt = None, json: JsonOpt = False, catalogs: CatOpt = None) -> None:
     """Size every bank in SPEC and write its documents.
 
     Example: bankbuild size plant.yaml --out quote-2041
@@ -57,7 +63,7 @@ def size(spec: Annotated[Path, typer.Argument(help="The bank spec (YAML).")],
 
 
 @app.command()
-def demo(out: OutOpt = Path("bankbuild-out"), json: JsonOpt = False) -> None:
+def demo(out: OutOpt = None, json: JsonOpt = False) -> None:
     """Run the built-in demo plant (an invented site) and write its documents.
 
     Example: bankbuild demo --out demo-docs

@@ -1,0 +1,222 @@
+"""The benchmark (``make bench``): each figure measured side by side with its reference, median of several runs.
+
+1. start-up: ``bankbuild --help`` against a bare ``python -c "import typer"`` (goal: at most 1.5 times);
+2. the demo with all its documents against importing the libraries it uses (goal: at most 1.5 times);
+3. selecting a 5,000 kvar bank of 25 steps (goal: under 100 ms);
+4. an invented plant of 500 banks: ``size --json`` (goal: a few seconds) and ``size`` with every document
+   (goal: well under a minute), and how the cost grows from 125 to 250 to 500 banks (goal: linear).
+
+The commands under test and their references run in alternation (A, B, A, B, ...), so that a machine that
+slows down or speeds up during the run affects both alike; each figure is the median of the runs. The machine
+(CPU, cores, Python, load average before and after) is printed with the results, and ``--markdown`` prints the
+results table for the README.
+
+Usage: ``.venv/bin/python benchmarks/run.py [--runs 5] [--quick] [--markdown]``
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import platform
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from dataclasses import dataclass
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+sys.path.insert(0, str(HERE))
+sys.path.insert(0, str(ROOT))
+
+from plant import write_plant_spec  # noqa: E402
+
+PYTHON = sys.executable
+_SCRIPT = Path(PYTHON).parent / "bankbuild"  # the installed command, as a user runs it
+BANKBUILD = [str(_SCRIPT)] if _SCRIPT.exists() else [PYTHON, "-c", "from bankbuild.cli import main; main()"]
+# Which library modules a demo run loads: everything imported from outside the standard library and bankbuild.
+_LIST_MODULES = """
+import contextlib, io, sys
+from bankbuild.cli import run
+with contextlib.redirect_stdout(io.StringIO()):
+    run(["demo", "--out", sys.argv[1]])
+names = sorted(n for n, m in list(sys.modules.items())
+               if getattr(m, "__file__", None) and not n.startswith("bankbuild")
+               and "site-packages" in m.__file__ and not n.split(".")[-1].startswith("_"))
+print(" ".join(names))
+"""
+
+
+@dataclass
+class Row:
+    what: str
+    measured: str
+    reference: str
+    result: str
+    goal: str
+    met: bool | None
+
+
+def timed(command: list[str], cwd: Path | None = None) -> float:
+    """Wall time of one run of ``command`` [s]; it must succeed."""
+    start = time.perf_counter()
+    done = subprocess.run(command, cwd=cwd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, check=False)
+    elapsed = time.perf_counter() - start
+    if done.returncode != 0:
+        raise SystemExit(f"benchmark command failed ({done.returncode}): {' '.join(command)}\n"
+                         f"{done.stderr.decode(errors='replace')}")
+    return elapsed
+
+
+def side_by_side(a: list[str], b: list[str], runs: int, warmup: int = 1) -> tuple[float, float]:
+    """Medians [s] of ``a`` and ``b`` run in alternation ``runs`` times each, after ``warmup`` unmeasured pairs."""
+    for _ in range(warmup):
+        timed(a)
+        timed(b)
+    times_a, times_b = [], []
+    for _ in range(runs):
+        times_a.append(timed(a))
+        times_b.append(timed(b))
+    return statistics.median(times_a), statistics.median(times_b)
+
+
+def median_of(command_for_run, runs: int) -> float:
+    """Median [s] of ``runs`` runs; ``command_for_run(i)`` gives the command of run ``i``."""
+    return statistics.median(timed(command_for_run(i)) for i in range(runs))
+
+
+def machine() -> str:
+    cpu = platform.processor() or platform.machine()
+    try:
+        for line in Path("/proc/cpuinfo").read_text(encoding="utf-8").splitlines():
+            if line.startswith("model name"):
+                cpu = line.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    load = " / ".join(f"{x:.1f}" for x in os.getloadavg()) if hasattr(os, "getloadavg") else "n/a"
+    return (f"{cpu}, {os.cpu_count()} cores, {platform.system()} {platform.release()}, Python "
+            f"{platform.python_version()}; load average {load}")
+
+
+def bench_startup(runs: int) -> Row:
+    cli, bare = side_by_side([*BANKBUILD, "--help"], [PYTHON, "-c", "import typer"], runs)
+    ratio = cli / bare
+    return Row("`bankbuild --help`", f"{cli * 1000:.0f} ms", f"`import typer` {bare * 1000:.0f} ms",
+               f"{ratio:.2f} ×", "≤ 1.5 ×", ratio <= 1.5)
+
+
+def demo_libraries(work: Path) -> list[str]:
+    """The library modules (outside the standard library and bankbuild) that a demo run imports."""
+    done = subprocess.run([PYTHON, "-c", _LIST_MODULES, str(work / "demo-modules")], capture_output=True,
+                          text=True, check=True)
+    return done.stdout.split()
+
+
+def bench_demo(runs: int, work: Path) -> Row:
+    modules = demo_libraries(work)
+    script = work / "import_libraries.py"
+    script.write_text(f"import importlib\nfor name in {modules!r}:\n    importlib.import_module(name)\n",
+                      encoding="utf-8")
+    tops = sorted({m.split(".")[0] for m in modules})
+    run_s, import_s = side_by_side([*BANKBUILD, "demo", "--out", str(work / "demo")], [PYTHON, str(script)], runs)
+    ratio = run_s / import_s
+    return Row("`bankbuild demo` (3 banks, 6 documents)", f"{run_s:.2f} s",
+               f"importing the {len(modules)} library modules it loads ({', '.join(tops)}) {import_s:.2f} s",
+               f"{ratio:.2f} ×", "≤ 1.5 ×", ratio <= 1.5)
+
+
+def bench_selection() -> list[Row]:
+    rows = []
+    try:
+        import select_bench
+    except ImportError:  # the assembly's own timing function is not there: time the exact search directly
+        select_bench = None
+    if select_bench is not None:
+        for label, weights in (("25 equal steps", (1,) * 25), ("25 steps 1:2:2…", (1,) + (2,) * 24)):
+            ms = select_bench.bench_select(weights=weights)
+            rows.append(Row(f"select 5,000 kvar, {label}", f"{ms:.1f} ms", "median of 21 runs, cache cleared",
+                            f"{ms:.1f} ms", "< 100 ms", ms < 100.0))
+        return rows
+    from bankbuild.catalogs import load_catalogs
+    from bankbuild.select import _best, build_step
+
+    units = [u for u in load_catalogs().capacitor_units if (u.rated_voltage_v, u.rated_frequency_hz) == (480, 60)]
+    times = []
+    for _ in range(21):
+        _best.cache_clear()
+        start = time.perf_counter()
+        for _step in range(25):
+            build_step(units, 200.0, 1.0)
+        times.append((time.perf_counter() - start) * 1000)
+    ms = statistics.median(times)
+    return [Row("select 5,000 kvar, 25 equal steps", f"{ms:.1f} ms", "median of 21 runs", f"{ms:.1f} ms",
+                "< 100 ms", ms < 100.0)]
+
+
+def bench_plant(runs: int, work: Path, with_documents: bool) -> list[Row]:
+    specs = {n: write_plant_spec(work, n) for n in (1, 125, 250, 500)}
+    json_s = {}
+    for n, spec in specs.items():
+        json_s[n] = median_of(lambda i, spec=spec: [*BANKBUILD, "size", str(spec), "--json"], runs)
+    rows = [Row("500 banks: `size --json`", f"{json_s[500]:.2f} s", f"1 bank {json_s[1]:.2f} s",
+                f"{json_s[500]:.2f} s", "a few seconds (≤ 5 s)", json_s[500] <= 5.0)]
+    # Linear growth: the work beyond a one-bank run (start-up, imports, tables) should double with the banks.
+    work_s = {n: max(t - json_s[1], 1e-9) for n, t in json_s.items()}
+    growth = (work_s[500] / work_s[250], work_s[250] / work_s[125])
+    per_bank = (json_s[500] - json_s[250]) / 250 * 1000
+    rows.append(Row("cost growth 125 → 250 → 500 banks", f"× {growth[1]:.2f}, × {growth[0]:.2f}",
+                    f"{per_bank:.1f} ms per bank", f"× {max(growth):.2f} per doubling", "≈ 2 (linear; < 2.4)",
+                    max(growth) < 2.4))
+    if with_documents:
+        docs_runs = max(1, min(runs, 3))
+        docs = median_of(lambda i: [*BANKBUILD, "size", str(specs[500]), "--out", str(work / f"docs-{i}")],
+                         docs_runs)
+        rows.append(Row("500 banks: `size` with all documents", f"{docs:.1f} s", f"median of {docs_runs}",
+                        f"{docs:.1f} s", "well under a minute (≤ 40 s)", docs <= 40.0))
+    return rows
+
+
+def markdown(rows: list[Row], where: str) -> str:
+    lines = ["| what | measured | beside it | result | goal | met |", "|---|---|---|---|---|---|"]
+    for r in rows:
+        met = "—" if r.met is None else ("yes" if r.met else "**no**")
+        lines.append(f"| {r.what} | {r.measured} | {r.reference} | {r.result} | {r.goal} | {met} |")
+    return "\n".join(lines) + f"\n\nMachine: {where}."
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--runs", type=int, default=5, help="runs per figure (median); default 5")
+    parser.add_argument("--quick", action="store_true", help="3 runs, no 500-bank documents")
+    parser.add_argument("--markdown", action="store_true", help="print the results as a Markdown table")
+    args = parser.parse_args(argv)
+    runs = 3 if args.quick else max(1, args.runs)
+    before = machine()
+    rows: list[Row] = []
+    with tempfile.TemporaryDirectory(prefix="bankbuild-bench-") as tmp:
+        work = Path(tmp)
+        steps = [("start-up", lambda: [bench_startup(runs)]), ("demo", lambda: [bench_demo(runs, work)]),
+                 ("selection", bench_selection),
+                 ("plant", lambda: bench_plant(runs, work, with_documents=not args.quick))]
+        for label, step in steps:
+            print(f"… {label}", file=sys.stderr, flush=True)
+            rows += step()
+    after = machine().rsplit("load average ", 1)[1]
+    where = f"{before} (after: {after})"
+    if args.markdown:
+        print(markdown(rows, where))
+    else:
+        width = max(len(r.what) for r in rows)
+        for r in rows:
+            met = "" if r.met is None else ("met" if r.met else "NOT MET")
+            print(f"{r.what:<{width}}  {r.measured:>18}  {r.reference:<40} {r.result:>12}  goal {r.goal:<28} {met}")
+        print(f"machine: {where}")
+    return 0 if all(r.met is not False for r in rows) else 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())
