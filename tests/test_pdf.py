@@ -1,56 +1,27 @@
-"""The PDF documents: bill of materials and protection worksheet.
+"""The PDF documents: bill of materials and protection worksheet, read back with pypdf.
 
 The tests read each PDF back with pypdf (a reader we did not write) and look for the figures of the JSON results,
-the rule references, the cautions, the provenance, and hostile text shown literally. The example plant and all
-names are invented.
+the rule references, the cautions and the provenance. Hostile text, escaping and writing are in
+test_pdf_robust.py. The example plant and all names are invented.
 """
 
 from __future__ import annotations
 
-import html
 import io
 import math
 import re
-import subprocess
-import sys
-from pathlib import Path
 
 import pypdf
 import pytest
 import yaml
-from hypothesis import given, settings
-from hypothesis import strategies as st
+from pdf_text import pages_text, size_yaml, squash, whole
 
-from bankbuild.reports import pdf_worksheet
 from bankbuild.reports.pdf_bom import bom_pdf, qty_text, source_text
-from bankbuild.reports.pdf_common import PDF_FILES, para_text, plain_text, register_fonts, render_pdfs
+from bankbuild.reports.pdf_common import PDF_FILES, plain_text, register_fonts, render_pdfs
 from bankbuild.reports.pdf_worksheet import worksheet_pdf
 from bankbuild.reports.writer import write_documents
 from bankbuild.results import BomLine
 from bankbuild.runner import demo_spec_path, run_spec
-
-HOSTILE = ("<b>bold</b>", "&amp;", "<font color='red'>", "]]>", "</para>", "&#60;", "<br/>")
-
-
-def pages_text(data: bytes) -> list[str]:
-    """The text of each page, as pypdf extracts it."""
-    reader = pypdf.PdfReader(io.BytesIO(data))
-    return [page.extract_text() or "" for page in reader.pages]
-
-
-def squash(text: str) -> str:
-    """Text with every blank removed: cells wrap lines wherever they like."""
-    return re.sub(r"\s+", "", text)
-
-
-def whole(data: bytes) -> str:
-    return squash("".join(pages_text(data)))
-
-
-def size_yaml(tmp_path: Path, spec: dict, name: str = "spec.yaml"):
-    path = tmp_path / name
-    path.write_text(yaml.safe_dump(spec, allow_unicode=True, sort_keys=False), encoding="utf-8")
-    return run_spec(path)
 
 
 @pytest.fixture(scope="module")
@@ -396,108 +367,3 @@ def test_letter_size_for_the_nec_basis(demo_pdfs):
     page = pypdf.PdfReader(io.BytesIO(demo_pdfs["bill-of-materials.pdf"])).pages[0]
     # Source: ANSI US Letter, 8.5 × 11 in = 612 × 792 pt
     assert (float(page.mediabox.width), float(page.mediabox.height)) == (612.0, 792.0)
-
-
-# --- hostile text and big banks --------------------------------------------------------------------------------
-
-
-def test_hostile_and_long_names_are_shown_literally(demo):
-    long_name = " ".join(HOSTILE) + " " + "Kestrel Vale north extension feeder " * 8 + "Z" * 60
-    assert len(long_name) > 300
-    project = {**demo.project, "name": long_name, "site": "Unit <7> & yard ]]>", "prepared_by": "A. <i>N</i>"}
-    banks = [b.model_copy(update={"name": f"{h} bank {i}"})
-             for i, (b, h) in enumerate(zip(demo.banks, HOSTILE[:len(demo.banks)], strict=True))]
-    result = demo.model_copy(update={"project": project, "banks": banks})
-    for data in (bom_pdf(result), worksheet_pdf(result)):
-        text = whole(data)
-        assert squash(long_name) in text
-        assert "Unit<7>&yard]]>" in text and "A.<i>N</i>" in text
-        for bank in banks:
-            assert squash(bank.name) in text
-        assert "Kestrel" in pypdf.PdfReader(io.BytesIO(data)).metadata.title  # the information dictionary parses
-
-
-def test_a_bank_of_16_steps_renders_every_step(tmp_path):
-    spec = {"project": {"name": "<b>Sixteen</b> & steps"},
-            "banks": [{"name": "Bank <16>", "supply": {"voltage_v": 480, "frequency_hz": 60,
-                                                        "transformer_kva": 2000, "transformer_z_pct": 6},
-                       "need": {"kvar": 800}, "steps": {"count": 16, "pattern": "equal"}}]}
-    result = size_yaml(tmp_path, spec)
-    assert len(result.banks[0].steps) == 16
-    data = worksheet_pdf(result)
-    pages = pages_text(data)
-    text = squash("".join(pages))
-    for step in result.banks[0].steps:
-        assert f"Step{step.index}({step.kvar:,.1f}kvar)" in text
-    sizing_pages = [p for p in pages if "Whatissized" in squash(p)]
-    assert len(sizing_pages) >= 2  # the sizing table runs over pages with its header repeated
-    assert "<b>Sixteen</b>&steps" in text
-    assert len(pypdf.PdfReader(io.BytesIO(bom_pdf(result))).pages) >= 1
-
-
-@settings(max_examples=150, deadline=None)
-@given(st.text(max_size=80))
-def test_escaping_is_lossless_for_any_text(text):
-    # Property: the Paragraph markup of any text reads back to exactly the drawable text, and parses.
-    from reportlab.platypus import Paragraph
-
-    from bankbuild.reports.pdf_common import styles
-
-    escaped = para_text(text)
-    assert "<" not in escaped and ">" not in escaped
-    assert html.unescape(escaped) == plain_text(text)
-    para = Paragraph(escaped, styles()["cell"])
-    drawn = "".join(getattr(f, "text", "") for f in para.frags)
-    assert squash(drawn) == squash(plain_text(text))
-
-
-@settings(max_examples=150, deadline=None)
-@given(st.text(max_size=60))
-def test_drawable_text_uses_only_covered_glyphs(text):
-    covered = register_fonts()
-    assert all(ord(ch) in covered for ch in plain_text(text))
-
-
-def test_a_row_taller_than_a_page_is_one_error_line_not_a_traceback(demo):
-    from bankbuild.errors import BankbuildError
-
-    line = BomLine(item=1, qty=1.0, unit="pcs", category="c", description="unit", notes="very long note " * 3000)
-    bank = demo.banks[0].model_copy(update={"bom": [line]})
-    with pytest.raises(BankbuildError, match="Bill of materials: layout: cannot lay out"):
-        bom_pdf(demo.model_copy(update={"banks": [bank]}))
-
-
-# --- writing -----------------------------------------------------------------------------------------------------
-
-
-def test_a_failed_render_writes_nothing_and_keeps_the_old_set(demo, tmp_path, monkeypatch):
-    out = tmp_path / "out"
-    write_documents(demo, out)
-    before = {p.name: p.read_bytes() for p in out.iterdir()}
-
-    def broken(result):
-        raise RuntimeError("layout failed")
-
-    monkeypatch.setattr(pdf_worksheet, "worksheet_pdf", broken)
-    changed = demo.model_copy(update={"project": {**demo.project, "revision": "B"}})
-    with pytest.raises(RuntimeError):
-        write_documents(changed, out)
-    assert {p.name: p.read_bytes() for p in out.iterdir()} == before
-
-
-def test_a_rerun_replaces_the_old_set(demo, tmp_path):
-    out = tmp_path / "out"
-    write_documents(demo, out)
-    changed = demo.model_copy(update={"project": {**demo.project, "revision": "Q7"}})
-    write_documents(changed, out)
-    text = whole((out / "protection-worksheet.pdf").read_bytes())
-    assert "rev.Q7" in text
-    assert set(PDF_FILES) <= {p.name for p in out.iterdir()}
-    assert not [p for p in out.iterdir() if p.name.startswith(".")], "temporary files left"
-
-
-def test_pdf_modules_do_not_import_reportlab_until_drawing():
-    code = ("import sys; import bankbuild.cli, bankbuild.reports.writer, bankbuild.reports.pdf_bom, "
-            "bankbuild.reports.pdf_worksheet; print('reportlab' in sys.modules)")
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    assert out.stdout.strip() == "False"
