@@ -38,8 +38,9 @@ def switching_table(bank: BankResult, width: float):
         limit = min(getattr(sw, "capacitor_limit_a", float("inf")), getattr(sw, "contactor_limit_a", float("inf")))
         peaks = [v for v in (getattr(sw, "energising_peak_a", None), getattr(sw, "back_to_back_peak_a", None))
                  if v is not None]
-        within = all(v <= limit for v in peaks)
         damped = getattr(sw, "damping", "none") != "none"
+        needed = getattr(sw, "damping_needed", None)  # the pipeline's own verdict, where it gives one
+        within = (not needed) if needed is not None else all(v <= limit for v in peaks)
         ok = getattr(sw, "contactor", None) is not None and (within or damped)
         damping = getattr(sw, "damping", "—")
         extra = getattr(sw, "damping_reactor_uh", None)
