@@ -75,7 +75,7 @@ class Detuning(_Frozen):
 class StepPlanResult(_Frozen):
     """How the step sizes were chosen, and every kvar value the controller can reach with them."""
 
-    form: str  # fixed | list | plan
+    form: str  # fixed | list | plan | existing (the units a spec lists per step)
     pattern: str  # the weights per step, e.g. "1:2:2:2:2:2"; "" for a fixed bank
     rule: str  # how the sizes were chosen, with the numbers
     step_kvar: list[float]  # delivered at the supply, per step

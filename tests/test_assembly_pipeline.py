@@ -186,3 +186,43 @@ def test_help_does_not_import_heavy_libraries():
     done = subprocess.run([sys.executable, "-c", code], cwd=Path(__file__).parents[1], capture_output=True,
                           check=False)
     assert done.returncode == 0, done.stderr
+
+
+def test_existing_bank_steps_are_switched(size_bank):
+    bank = size_bank(units=[[{"id": "CU-480-60-50.0"}], [{"id": "CU-480-60-50.0"}],
+                            [{"id": "CU-480-60-25.0", "qty": 2}]])
+    assert bank.step_plan.form == "existing"
+    assert all(s.switching is not None and s.switching.contactor is not None for s in bank.steps)
+    assert bank.control.controller.value >= 3
+    assert bank.step_plan.reachable_kvar == pytest.approx([0, 50, 100, 150])
+
+
+def test_iec_detuned_bank_with_a_made_to_order_reactor(size_bank):
+    # 400 V 50 Hz, 7 %: 440 V units give (400/440)² / 0.93 = 0.8886 of nameplate, so a 45 kvar step is built
+    # from 52.5 kvar nameplate to 46.65 kvar; the table's 40 and 50 kvar reactors are 17 % and 7 % off its
+    # inductance (L ∝ 1/Q), outside the 5 % tolerance: the BOM orders one to the stated figures.
+    bank = size_bank(rules="iec", supply={"voltage_v": 400, "frequency_hz": 50}, need={"kvar": 90},
+                     steps=[45, 45], detuning_pct=7)
+    assert bank.capacitor_voltage_v == 440
+    assert bank.steps[0].kvar == pytest.approx(52.5 * (400 / 440) ** 2 / 0.93)
+    assert all(s.reactor.made_to_order for s in bank.steps)
+    flagged = {c.name: c for c in bank.checks if not c.ok}
+    assert flagged["Detuning reactors"].level == "caution"
+    made = [line for line in bank.bom if line.category == "Detuning reactors"]
+    assert len(made) == 1 and made[0].qty == 2 and "made to order" in made[0].description and not made[0].table
+    assert bank.control.control_voltage_v == 230  # Source: common practice (no single source) - 230 V under iec
+
+
+def test_tuning_onto_a_stated_harmonic_is_flagged_not_a_crash(size_bank):
+    # p = 4 % tunes to 1/√0.04 = order 5 exactly (trade-facts.md f_r = f1/√p): the stated 5th-harmonic voltage
+    # would drive unbounded current; the result says so and still lists every part.
+    import json
+
+    bank = size_bank(steps=[50, 50], detuning_pct=4)
+    failed = {c.name for c in bank.checks if not c.ok}
+    assert {"Detuning against the stated harmonics", "Unit voltage with detuning and harmonics"} <= failed
+    assert all(s.switching.contactor is not None for s in bank.steps)  # sized on the fundamental current
+    reactor = next(line for line in bank.bom if line.category == "Detuning reactors")
+    assert "current to suit" in reactor.description
+    text = bank.model_dump_json()
+    assert "Infinity" not in text and json.loads(text)["steps"][0]["reactor"]["required_current_a"] is None

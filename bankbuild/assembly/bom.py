@@ -5,6 +5,7 @@ say so in their notes.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass, field
 
@@ -164,8 +165,10 @@ def _reactor_parts(step, v: float, f: float, catalogs) -> list[Part]:
         row = _row(catalogs.reactors, r.reactor.row)
         text = f"{row.reactor_id}: {row.description}; {row.inductance_mh:g} mH per phase, {row.current_a:g} A thermal"
         return [Part("Detuning reactors", text, 1, table=row.table, row=row.row, where=[step.index])]
+    amps = (f"≥ {r.current_rating_a:.0f} A rms with harmonics" if math.isfinite(r.current_rating_a)
+            else "current to suit (p tunes onto a harmonic of the stated spectrum)")
     text = (f"Detuning reactor made to order: three-phase, p = {r.tuning_pct:g}% ({r.tuning_frequency_hz:.0f} Hz), "
-            f"{r.inductance_mh:.3f} mH per phase, ≥ {r.current_rating_a:.0f} A rms with harmonics, {v:g} V {f:g} Hz")
+            f"{r.inductance_mh:.3f} mH per phase, {amps}, {v:g} V {f:g} Hz")
     return [Part("Detuning reactors", text, 1, notes="no table reactor fits", where=[step.index])]
 
 

@@ -6,6 +6,8 @@
 
 from __future__ import annotations
 
+import math
+
 from ..calc import capacitor as cap
 from ..calc import power as pw
 from ..calc import system as sysc
@@ -20,6 +22,7 @@ from .switching import (
     capacitance_uf,
     delay_setting_s,
     discharge_tau_s,
+    inrush_peak_a,
     reconnection_times_s,
     source_inductance_uh,
     step_switching,
@@ -67,10 +70,14 @@ def plan_result(bank: Bank, result: BankResult, units) -> StepPlanResult:
         return StepPlanResult(form="plan", pattern=":".join(map(str, weights)), rule=rule, step_kvar=steps,
                               resolution_kvar=min(steps), reachable_kvar=list(reach.values_kvar),
                               reachable_count=reach.count, largest_gap_kvar=reach.largest_gap_kvar, note=note)
-    form = "list" if isinstance(bank.steps, list) else "fixed"
-    rule = ("steps as listed in the spec (kvar at the supply), each built from the fewest units, then the least "
-            "overshoot" if form == "list" else
-            "fixed bank: one step of at least the need, built from the fewest units, then the least overshoot")
+    if isinstance(bank.steps, list):
+        form, rule = "list", ("steps as listed in the spec (kvar at the supply), each built from the fewest units, "
+                              "then the least overshoot")
+    elif getattr(bank, "units", None):
+        form, rule = "existing", "the units the spec lists per step, as built"
+    else:
+        form, rule = "fixed", ("fixed bank: one step of at least the need, built from the fewest units, then the "
+                               "least overshoot")
     return StepPlanResult(form=form, pattern="", rule=rule, step_kvar=steps, resolution_kvar=min(steps),
                           reachable_kvar=list(reach.values_kvar), reachable_count=reach.count,
                           largest_gap_kvar=reach.largest_gap_kvar, note=note)
@@ -110,7 +117,7 @@ def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankR
     opts = bank.assembly
     checks: list[Check] = []
     v_s, f_s = result.supply_voltage_v, result.frequency_hz
-    automatic = bank.steps is not None
+    automatic = bank.steps is not None or len(result.steps) > 1  # an existing bank's several steps switch too
     steps = list(result.steps)
     plan = plan_result(bank, result, units)
 
@@ -132,7 +139,8 @@ def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankR
     if automatic:
         switched = []
         for k, s in enumerate(steps):
-            basis = max(s.rated_current_a, s.reactor.required_current_a if s.reactor else s.line_current_a)
+            rms = s.reactor.required_current_a if s.reactor else s.line_current_a
+            basis = max(s.rated_current_a, rms if math.isfinite(rms) else s.line_current_a)
             sw = step_switching(k, [x.line_current_a for x in steps], caps, reactors_uh, s.rated_current_a,
                                 opts.contactor_factor * basis, v_s, f_s, opts.inter_step_inductance_uh, source_uh,
                                 catalogs.contactors)
@@ -183,6 +191,13 @@ def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankR
 
 def _reactor_checks(steps, tolerance_pct: float) -> list[Check]:
     checks = []
+    tuned = [s for s in steps if not math.isfinite(s.reactor.required_current_a)]
+    if tuned:
+        orders = sorted(h for h, v in tuned[0].reactor.harmonic_current_pct.items() if not math.isfinite(v))
+        checks.append(Check(
+            name="Detuning against the stated harmonics", ok=False, rule="I_h/I_1 = (U_h/U_1)·(1 − p)/|p·h − 1/h|",
+            detail=f"{_span([s.index for s in tuned])}: p = {tuned[0].reactor.tuning_pct:g}% tunes onto order "
+                   f"{', '.join(map(str, orders))} of the stated spectrum: unbounded current; choose another p"))
     made = [s.index for s in steps if s.reactor.made_to_order]
     checks.append(Check(
         name="Detuning reactors", ok=not made, level="caution" if made else "check",
@@ -195,10 +210,14 @@ def _reactor_checks(steps, tolerance_pct: float) -> list[Check]:
         name="Unit voltage with detuning and harmonics", ok=not low,
         rule="U/(1−p) ≤ rated; with harmonics ≤ 110% rms and ≤ 120% peak (IEEE 18)",
         detail=(f"units {r.unit_voltage_v:g} V see {r.capacitor_voltage_v:.0f} V fundamental (margin "
-                f"{r.voltage_margin_pct:.1f}%), {r.capacitor_voltage_rms_v:.0f} V rms and "
-                f"{r.capacitor_voltage_sum_v:.0f} V peak-equivalent with the stated harmonics"
+                f"{r.voltage_margin_pct:.1f}%), {_volts(r.capacitor_voltage_rms_v)} rms and "
+                f"{_volts(r.capacitor_voltage_sum_v)} peak-equivalent with the stated harmonics"
                 + (f" on {_span([s.index for s in low])}: choose units of a higher rated voltage" if low else ""))))
     return checks
+
+
+def _volts(value: float) -> str:
+    return f"{value:.0f} V" if math.isfinite(value) else "unbounded voltage"
 
 
 def _switching_checks(steps, voltage_v: float, factor: float) -> list[Check]:
@@ -227,8 +246,6 @@ def _switching_checks(steps, voltage_v: float, factor: float) -> list[Check]:
 
 
 def _inrush_summary(steps, caps, reactors_uh, voltage_v, inter_uh, source_uh, isc, automatic) -> InrushSummary:
-    from .switching import inrush_peak_a
-
     if automatic:
         first = steps[0].switching
         last = steps[-1].switching

@@ -27,6 +27,10 @@ def _groups(steps, key) -> list[tuple[str, list[int]]]:
     return list(seen.items())
 
 
+def _amps(value: float) -> str:
+    return f"{value:.0f} A" if value < float("inf") else "unbounded"
+
+
 def _which(indices: list[int]) -> str:
     if len(indices) == 1:
         return f"step {indices[0]}"
@@ -46,8 +50,8 @@ def assembly_lines(bank: BankResult) -> list[str]:
     reactors = _groups(bank.steps, lambda s: (
         "" if s.reactor is None else
         f"{s.reactor.reactor.designation if s.reactor.reactor else 'made to order'}, "
-        f"{s.reactor.inductance_mh:.3g} mH, {s.reactor.current_rating_a:.0f} A "
-        f"(needs {s.reactor.required_current_a:.0f} A)"))
+        f"{s.reactor.inductance_mh:.3g} mH, {_amps(s.reactor.current_rating_a)} "
+        f"(needs {_amps(s.reactor.required_current_a)})"))
     if reactors:
         first = next(s.reactor for s in bank.steps if s.reactor)
         out.append(f"  reactors      p = {first.tuning_pct:g}% ({first.tuning_frequency_hz:.0f} Hz); units see "
