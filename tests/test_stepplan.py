@@ -190,3 +190,39 @@ def test_benchmark_script_selects_the_bank():
     steps = bench.select_bank(units)
     assert len(steps) == 25 and sum(s.delivered_kvar for s in steps) >= 5000
     assert bench.bench_select(repeats=1) > 0
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow,
+                                                                 HealthCheck.function_scoped_fixture])
+@given(sizes=st.lists(st.sampled_from([2.5, 5.0, 7.5, 10.0, 12.5, 15.0, 20.0, 25.0, 30.0, 40.0, 50.0]), min_size=1,
+                      max_size=4, unique=True),
+       steps=st.one_of(st.lists(st.floats(min_value=5, max_value=120), min_size=1, max_size=4),
+                       st.builds(lambda c, p: {"count": c, "pattern": p}, st.integers(1, 5),
+                                 st.sampled_from(["equal", "1:2", "1:2:2"]))),
+       need=st.floats(min_value=20, max_value=300))
+def test_pipeline_steps_are_never_beaten_on_random_tables(catalogs, size_bank, sizes, steps, need):
+    # A random small unit table (480 V / 60 Hz) replaces the built-in one; every step the pipeline builds must
+    # be unbeaten by brute force: no combination reaches the step's target with fewer units, none with as many
+    # units overshoots less.
+    import dataclasses
+
+    from bankbuild.catalog_schema import CapacitorUnit
+
+    units = tuple(CapacitorUnit(unit_id=f"T-{s:g}", rated_kvar=s, rated_voltage_v=480.0, rated_frequency_hz=60.0,
+                                connection="delta", discharge_voltage_v=50.0, discharge_time_s=60.0,
+                                losses_w_per_kvar=0.5, description="", table="capacitor_units.csv", row=10 + i)
+                  for i, s in enumerate(sorted(sizes)))
+    tables = dataclasses.replace(catalogs, capacitor_units=units)
+    bank = size_bank(tables=tables, need={"kvar": need}, steps=steps)
+    ordered = sorted(sizes)
+    for step in bank.steps:
+        chosen = {u.rated_kvar: u.qty for u in step.units}
+        n = sum(chosen.values())
+        total = sum(k * q for k, q in chosen.items())
+        assert total >= step.target_kvar - 1e-6
+        for counts in all_counts(len(ordered), n):
+            other = sum(c * s for c, s in zip(counts, ordered, strict=True))
+            if other >= step.target_kvar - 1e-6:
+                assert sum(counts) >= n
+                if sum(counts) == n:
+                    assert other >= total - 1e-6
