@@ -137,7 +137,7 @@ def bank_bom(bank: BankResult, catalogs, ctx) -> list[BomLine]:
             parts += _conductor_parts(step.conductor, ctx, bank.rules, k, "step circuit")
     main = bank.main
     parts += _device_parts("Main protection", bank.rules, main.device, main.device_rating_a, main.sizing, v,
-                           catalogs, [])
+                           catalogs, [], holder=not main.disconnect_rating_a)  # a fusible switch holds its fuses
     if main.disconnect_rating_a:
         row = next((r for r in catalogs.disconnect_ratings
                     if r.basis == bank.rules and r.rating_a == main.disconnect_rating_a), None)
@@ -190,7 +190,7 @@ def _switching_parts(step, catalogs) -> list[Part]:
 
 
 def _device_parts(category: str, rules: str, device: str, rating_a: float, sizing, v: float, catalogs,
-                  where: list[int]) -> list[Part]:
+                  where: list[int], holder: bool = True) -> list[Part]:
     if not rating_a:
         return []
     row = next((r for r in catalogs.device_ratings
@@ -198,10 +198,10 @@ def _device_parts(category: str, rules: str, device: str, rating_a: float, sizin
     table, number = (row.table, row.row) if row else ("", None)
     if device == "fuse":
         kind = "time-delay fuse-link" if rules == "nec" else "gG fuse-link"
-        return [Part(category, f"Fuse-link {rating_a:g} A, {kind}, rated ≥ {v:g} V", POLES, table=table,
-                     row=number, where=where),
-                Part(category, f"Fuse holder, 3-pole, for {rating_a:g} A fuse-links, rated ≥ {v:g} V", 1,
-                     where=where)]
+        links = [Part(category, f"Fuse-link {rating_a:g} A, {kind}, rated ≥ {v:g} V", POLES, table=table,
+                      row=number, where=where)]
+        return links + ([Part(category, f"Fuse holder, 3-pole, for {rating_a:g} A fuse-links, rated ≥ {v:g} V", 1,
+                              where=where)] if holder else [])
     frame = next((line.chosen for line in sizing if line.item == "Breaker frame"), "")
     return [Part(category, f"Circuit breaker, 3-pole, trip {rating_a:g} A" + (f", frame {frame}" if frame else "")
                  + f", rated ≥ {v:g} V", 1, table=table, row=number, where=where)]
