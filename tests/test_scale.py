@@ -54,3 +54,24 @@ def test_plant_generator_covers_the_spec_forms() -> None:
     for key in ("need: {kvar:", "pf_present", "loads:", "steps: {count:", "steps: [", "detuning_pct: 7",
                 "transformer_kva", "device: fuse", "device: breaker"):
         assert key in text, key
+
+
+def test_long_lists_are_cut_to_fit_a_pdf_page(tmp_path: Path, capsys) -> None:
+    """A plant's bank list and a part used in every bank must not make one table row taller than a page
+    (reportlab cannot split a row): the title block counts the banks past a dozen, and the notes of a merged
+    line are cut with a pointer to the CSV, which keeps them whole."""
+    from pypdf import PdfReader
+
+    from bankbuild.reports.pdf_bom import NOTES_MAX, cell_notes
+
+    notes = "; ".join(f"Bank {i:04d}: {i % 7 + 1}" for i in range(300))
+    cut = cell_notes(notes)
+    assert len(cut) <= NOTES_MAX + 60 and cut.endswith("… (in full in bill-of-materials.csv)")
+    assert notes.startswith(cut.rsplit("; …", 1)[0])
+
+    spec = write_plant_spec(tmp_path, 30)
+    assert run(["size", str(spec), "--out", str(tmp_path / "docs")]) == 0
+    text = " ".join((PdfReader(tmp_path / "docs" / "bill-of-materials.pdf").pages[0].extract_text() or "").split())
+    assert "and 18 more (30 banks" in text
+    csv_text = (tmp_path / "docs" / "bill-of-materials.csv").read_text(encoding="utf-8")
+    assert "Bank 0029" in csv_text

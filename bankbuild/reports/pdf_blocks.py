@@ -114,12 +114,17 @@ def key_values(pairs: Sequence[tuple[str, object]], width: float, key_share: flo
     return grid(rows, [width * key_share, width * (1 - key_share)], header_rows=0)
 
 
+TITLE_BANKS = 12  # bank names listed in the title block; the rest are counted
+
+
 def title_block(result: ProjectResult, doc_title: str, purpose: str, width: float) -> list:
     """Document title and the boxed project fields from the spec (project, site, banks, revision, date, people)."""
     from reportlab.platypus import Spacer
 
     project = result.project
-    banks = "; ".join(f"{i}. {b.name}" for i, b in enumerate(result.banks, start=1)) or "—"
+    banks = "; ".join(f"{i}. {b.name}" for i, b in enumerate(result.banks[:TITLE_BANKS], start=1)) or "—"
+    if len(result.banks) > TITLE_BANKS:  # a plant of hundreds of banks would overflow the page
+        banks += f"; … and {len(result.banks) - TITLE_BANKS} more ({len(result.banks)} banks, one section each)"
 
     def field(key: str) -> str:
         return project.get(key, "") or "—"

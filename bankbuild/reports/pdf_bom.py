@@ -92,11 +92,33 @@ def source_text(line: BomLine) -> str:
     return f"{line.table}, row {line.row}" if line.row is not None else line.table
 
 
+NOTES_MAX = 600  # characters of a line's notes in a cell: a table row cannot run over a page
+
+
+def cell_notes(notes: str, limit: int = NOTES_MAX) -> str:
+    """The notes as shown in a cell; a list too long for one page (the banks of a large plant) is cut, and
+    the reader is sent to the CSV/JSON bill of materials, which hold it whole.
+
+    >>> cell_notes("A: 1; B: 2; C: 3", 10)
+    'A: 1; B: 2; … (in full in bill-of-materials.csv)'
+    """
+    if len(notes) <= limit:
+        return notes
+    kept, size = [], 0
+    for part in notes.split("; "):
+        if size + len(part) > limit:
+            break
+        kept.append(part)
+        size += len(part) + 2
+    return "; ".join(kept + ["… (in full in bill-of-materials.csv)"])
+
+
 def description_cell(line: BomLine):
     """Description and ratings, with the line's notes beneath in small italics."""
     if not line.notes:
         return C(line.description)
-    return PM(f'{para_text(line.description)}<br/><font size="6.6" color="#4a5058"><i>{para_text(line.notes)}'
+    notes = para_text(cell_notes(line.notes))
+    return PM(f'{para_text(line.description)}<br/><font size="6.6" color="#4a5058"><i>{notes}'
               "</i></font>")
 
 

@@ -30,16 +30,12 @@ def write_documents(result: ProjectResult, out_dir: Path, on_document=None) -> l
     """Render every document in memory, then write each atomically into ``out_dir``.
 
     Nothing is written unless every document rendered, and no reader ever sees a half-written file.
-    ``on_document(done, total, name)``, if given, is called before each document is rendered and at the end.
+    ``on_document(done, total, name)``, if given, reports progress (see :mod:`bankbuild.reports.render`, which
+    renders a large plant's documents on several cores).
     """
-    writers = _writers()
-    rendered = []
-    for i, (name, render) in enumerate(writers):
-        if on_document is not None:
-            on_document(i, len(writers), name)
-        rendered.append((name, render(result)))
-    if on_document is not None:
-        on_document(len(writers), len(writers), "")
+    from .render import render_documents
+
+    rendered = render_documents(result, _writers(), on_document)
     try:
         out_dir.mkdir(parents=True, exist_ok=True)
     except OSError as exc:

@@ -1,0 +1,115 @@
+"""Rendering the documents of a run in memory, on several processor cores when the plant is large.
+
+Each document is a pure function of the frozen results, so the documents of a plant with many banks can be
+rendered side by side: the worker processes are forked from this one (they inherit the results, nothing is
+pickled on the way in) and send back bytes. The heaviest documents start first. Small projects render in
+this process, where starting workers would cost more than it saves.
+
+Whatever happens in a worker (an error, a crash, a worker killed for memory), that document is rendered
+again here, so the error a user sees is the same as in a single process. Nothing is written in this module.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Sequence
+
+PARALLEL_MIN_BANKS = 10  # below this, one process is faster than starting workers (measured on the demo)
+MAX_WORKERS = 4
+
+Writer = tuple[str, Callable[[object], bytes]]
+_JOB: tuple[object, Sequence[Writer]] | None = None  # set before forking; read by the workers
+
+
+def cores() -> int:
+    """Processor cores this process may use."""
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1
+
+
+def worker_count(banks: int, documents: int) -> int:
+    """How many worker processes to render with; 1 means render here.
+
+    >>> worker_count(3, 6) == 1 and worker_count(500, 1) == 1
+    True
+    """
+    if banks < PARALLEL_MIN_BANKS or documents < 2:
+        return 1
+    import multiprocessing
+
+    if "fork" not in multiprocessing.get_all_start_methods():
+        return 1
+    return max(1, min(cores(), documents, MAX_WORKERS))
+
+
+def heaviest_first(writers: Sequence[Writer]) -> list[int]:
+    """Indexes of ``writers`` in the order to start them: the PDFs (the worksheet first), then workbooks.
+
+    >>> heaviest_first([("a.json", None), ("b.xlsx", None), ("c.pdf", None), ("protection-worksheet.pdf", None)])
+    [3, 2, 1, 0]
+    """
+    def cost(i: int) -> int:
+        name = writers[i][0]
+        return 3 if "worksheet" in name else 2 if name.endswith(".pdf") else 1 if name.endswith(".xlsx") else 0
+
+    return sorted(range(len(writers)), key=lambda i: (-cost(i), i))
+
+
+def _render_in_worker(index: int) -> bytes | None:
+    """Render one document in a forked worker; None on any failure (the parent renders it again)."""
+    try:
+        result, writers = _JOB
+        return writers[index][1](result)
+    except BaseException:  # noqa: BLE001 - reported by rendering again in the parent
+        return None
+
+
+def render_documents(result, writers: Sequence[Writer],
+                     on_document: Callable[[int, int, str], None] | None = None) -> list[tuple[str, bytes]]:
+    """Every document as ``(file name, bytes)``, in the order of ``writers``.
+
+    ``on_document(done, total, name)`` is called as documents start (in one process) or finish (in workers).
+    """
+    total = len(writers)
+    report = on_document or (lambda done, count, name: None)
+    workers = worker_count(len(getattr(result, "banks", ())), total)
+    done: dict[int, bytes] = {}
+    if workers > 1:
+        done = _render_parallel(result, writers, workers, report)
+    for i, (name, render) in enumerate(writers):
+        if i not in done:
+            report(len(done), total, name)
+            done[i] = render(result)
+    report(total, total, "")
+    return [(writers[i][0], done[i]) for i in range(total)]
+
+
+def _render_parallel(result, writers: Sequence[Writer], workers: int, report) -> dict[int, bytes]:
+    """Render in forked workers; returns what they rendered (failures are left out, to be done here)."""
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures.process import BrokenProcessPool
+
+    global _JOB
+    done: dict[int, bytes] = {}
+    _JOB = (result, writers)
+    try:
+        with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
+            futures = {pool.submit(_render_in_worker, i): i for i in heaviest_first(writers)}
+            report(0, len(writers), ", ".join(writers[i][0] for i in heaviest_first(writers)[:workers]))
+            for future in as_completed(futures):
+                index = futures[future]
+                try:
+                    data = future.result()
+                except BrokenProcessPool:
+                    break
+                if data is not None:
+                    done[index] = data
+                    report(len(done), len(writers), writers[index][0])
+    except (OSError, BrokenProcessPool):  # no workers to be had: render everything here
+        pass
+    finally:
+        _JOB = None
+    return done
