@@ -91,7 +91,8 @@ def test_drawable_text_uses_only_covered_glyphs(text):
 def test_a_row_taller_than_a_page_is_one_error_line_not_a_traceback(demo):
     from bankbuild.errors import BankbuildError
 
-    line = BomLine(item=1, qty=1.0, unit="pcs", category="c", description="unit", notes="very long note " * 3000)
+    # (long notes are cut to fit a cell, see pdf_bom.cell_notes; a description is printed whole)
+    line = BomLine(item=1, qty=1.0, unit="pcs", category="c", description="very long description " * 3000)
     bank = demo.banks[0].model_copy(update={"bom": [line]})
     with pytest.raises(BankbuildError, match="Bill of materials: layout: cannot lay out"):
         bom_pdf(demo.model_copy(update={"banks": [bank]}))
