@@ -65,17 +65,20 @@ def merge(parts: list[Part]) -> list[BomLine]:
     [(1, 5.0, 'steps 1–2')]
     """
     merged: dict[tuple, Part] = {}
+    noted: dict[tuple, set[str]] = {}  # a set beside each line's notes: a plant's merge stays linear
     for p in parts:
         key = (p.category, p.description, p.table, p.row, p.unit)
         if key in merged:
             m = merged[key]
             m.qty += p.qty
             m.where += p.where
-            if p.notes and p.notes not in m.extra:
+            if p.notes and p.notes not in noted[key]:
+                noted[key].add(p.notes)
                 m.extra.append(p.notes)
         else:
             merged[key] = Part(p.category, p.description, p.qty, p.unit, p.table, p.row, "", list(p.where),
                                [p.notes] if p.notes else [])
+            noted[key] = {p.notes} if p.notes else set()
     order = {c: i for i, c in enumerate(CATEGORIES)}
     ranked = sorted(enumerate(merged.values()), key=lambda ip: (order.get(ip[1].category, len(order)), ip[0]))
     lines = []
