@@ -41,6 +41,8 @@ BANKBUILD = [str(_SCRIPT)] if _SCRIPT.exists() else [PYTHON, "-c", "from bankbui
 _LIST_MODULES = """
 import contextlib, io, sys
 from bankbuild.cli import run
+from bankbuild.reports import render
+render.cores = lambda: 1  # render here, so that the modules the document workers import are seen too
 with contextlib.redirect_stdout(io.StringIO()):
     run(["demo", "--out", sys.argv[1]])
 names = sorted(n for n, m in list(sys.modules.items())
