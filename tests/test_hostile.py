@@ -376,3 +376,4 @@ def test_pdf_documents_show_markup_as_text(tmp_path: Path, capsys) -> None:
         text += "\n".join(page.extract_text() or "" for page in PdfReader(path).pages)
     flat = " ".join(text.split())
     assert "<b>3</b>" in flat  # the tags of the bank's name are printed, not obeyed
+    assert "<font size=80>&amp;</font>" in flat  # and so are those of a unit's description from a table
