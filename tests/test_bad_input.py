@@ -120,8 +120,9 @@ def assert_refused(case: Case, code: int, out: str, err: str, work: Path) -> Non
 
 
 def test_corpus_is_large_enough() -> None:
-    spec_files = [c for c in SPEC_CASES if not c.args.startswith(("kvar --kw", "catalog", "init"))]
-    assert len(spec_files) >= 40
+    spec_files = [c for c in SPEC_CASES if c.target.name.endswith(".yaml") and "{spec}" in c.args]
+    options = [c for c in SPEC_CASES if c.target.name.endswith(".args")]
+    assert len(spec_files) >= 40 and len(options) >= 10
     assert len(TABLE_CASES) >= 15
 
 
