@@ -2,8 +2,8 @@
 
 Each document is a pure function of the frozen results, so the documents of a plant with many banks can be
 rendered side by side: the worker processes are forked from this one (they inherit the results, nothing is
-pickled on the way in) and send back bytes. The heaviest documents start first. On one core, or where
-processes cannot be forked, everything renders in this process.
+pickled on the way in) and send back bytes. The heaviest documents start first. On one core, or off Linux
+(where forking is not the safe default), everything renders in this process.
 
 Whatever happens in a worker (an error, a crash, a worker killed for memory), that document is rendered
 again here, so the error a user sees is the same as in a single process. Nothing is written in this module.
@@ -40,8 +40,11 @@ def worker_count(banks: int, documents: int) -> int:
     if banks < PARALLEL_MIN_BANKS or documents < 2:
         return 1
     import multiprocessing
+    import sys
 
-    if "fork" not in multiprocessing.get_all_start_methods():
+    # fork only where it is the system's own default (Linux): on macOS forking after some system libraries have
+    # loaded can crash the child, and Windows has no fork.
+    if not sys.platform.startswith("linux") or "fork" not in multiprocessing.get_all_start_methods():
         return 1
     return max(1, min(cores(), documents, MAX_WORKERS))
 
