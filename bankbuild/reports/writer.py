@@ -65,8 +65,18 @@ def write_atomic(path: Path, data: bytes) -> Path:
     try:
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
+        # mkstemp makes the file private (0600); a document is for sharing, so give it the mode a plain
+        # open() would: 0666 less the process umask.
+        os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, path)
     except OSError as exc:
         Path(tmp).unlink(missing_ok=True)
         raise OptionError(str(path), "--out", f"cannot write ({exc.strerror or exc})") from None
     return path
+
+
+def _umask() -> int:
+    """The process umask (read by setting it and putting it straight back)."""
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
