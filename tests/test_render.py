@@ -75,3 +75,21 @@ def test_heaviest_first_and_worker_count() -> None:
     assert render.heaviest_first(WRITERS) == [3, 1, 2, 0]
     assert render.worker_count(0, 6) == 1
     assert 1 <= render.worker_count(500, 6) <= render.MAX_WORKERS
+
+
+@needs_workers
+def test_an_interruption_stops_the_workers_at_once() -> None:
+    import time
+
+    def slow(result):
+        time.sleep(60)
+        return b"never"
+
+    def interrupt(done, total, name):
+        raise KeyboardInterrupt
+
+    start = time.perf_counter()
+    with pytest.raises(KeyboardInterrupt):
+        render_documents(plant(PARALLEL_MIN_BANKS), [("a.pdf", slow), ("b.pdf", slow), ("c.pdf", slow)], interrupt)
+    assert time.perf_counter() - start < 10  # not the 60 s (or 3 × 60 s) the queued documents would take
+    assert render._JOB is None

@@ -92,7 +92,11 @@ def render_documents(result, writers: Sequence[Writer],
 
 
 def _render_parallel(result, writers: Sequence[Writer], workers: int, report) -> dict[int, bytes]:
-    """Render in forked workers; returns what they rendered (failures are left out, to be done here)."""
+    """Render in forked workers; returns what they rendered (failures are left out, to be done here).
+
+    If this process is interrupted (Ctrl-C, a signal), the workers are stopped at once rather than left to
+    finish every queued document.
+    """
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
@@ -100,21 +104,40 @@ def _render_parallel(result, writers: Sequence[Writer], workers: int, report) ->
     global _JOB
     done: dict[int, bytes] = {}
     _JOB = (result, writers)
+    pool = None
     try:
-        with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
-            futures = {pool.submit(_render_in_worker, i): i for i in heaviest_first(writers)}
-            report(0, len(writers), ", ".join(writers[i][0] for i in heaviest_first(writers)[:workers]))
-            for future in as_completed(futures):
-                index = futures[future]
-                try:
-                    data = future.result()
-                except BrokenProcessPool:
-                    break
-                if data is not None:
-                    done[index] = data
-                    report(len(done), len(writers), writers[index][0])
+        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"))
+        futures = {pool.submit(_render_in_worker, i): i for i in heaviest_first(writers)}
+        report(0, len(writers), ", ".join(writers[i][0] for i in heaviest_first(writers)[:workers]))
+        for future in as_completed(futures):
+            index = futures[future]
+            try:
+                data = future.result()
+            except BrokenProcessPool:
+                break
+            if data is not None:
+                done[index] = data
+                report(len(done), len(writers), writers[index][0])
     except (OSError, BrokenProcessPool):  # no workers to be had: render everything here
         pass
+    except BaseException:
+        _stop(pool)
+        raise
     finally:
         _JOB = None
+    if pool is not None:
+        pool.shutdown(wait=True, cancel_futures=True)
     return done
+
+
+def _stop(pool) -> None:
+    """Cancel what is queued and end the workers now (after an interruption)."""
+    if pool is None:
+        return
+    processes = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for process in processes:
+        if process.is_alive():
+            process.terminate()
+    for process in processes:
+        process.join(timeout=5)
