@@ -167,13 +167,13 @@ def size_circuit(ctx: CircuitContext, label: str, current_a: float, basis_text: 
             note = f"upsized from {plain.designation} so that {device.designation} protects it"
             lines.append(SizingLine(
                 item="Conductor, coordinated", basis_a=device.value, factor=1.0, required_a=device.value,
-                formula=_coord_formula(ctx, device.value), rule=coord_rule,
+                formula=_coord_formula(ctx, device.value, conductor.ampacity_a), rule=coord_rule,
                 chosen=f"{conductor.designation} ({ctx.conductor_label})", chosen_a=conductor.ampacity_a,
                 ok=True, note=note))
         else:
             lines.append(SizingLine(
                 item="Conductor, coordinated", basis_a=device.value, factor=1.0, required_a=device.value,
-                formula=_coord_formula(ctx, device.value), rule=coord_rule,
+                formula=_coord_formula(ctx, device.value, conductor.ampacity_a), rule=coord_rule,
                 chosen=f"{conductor.designation} (as sized)", chosen_a=conductor.ampacity_a, ok=True))
     final = conductor if (conductor is not None and device is not None) else plain
 
@@ -197,11 +197,16 @@ def size_circuit(ctx: CircuitContext, label: str, current_a: float, basis_text: 
                    checks=checks)
 
 
-def _coord_formula(ctx: CircuitContext, rating_a: float) -> str:
+def _coord_formula(ctx: CircuitContext, rating_a: float, ampacity_a: float) -> str:
+    """The coordination test written out with the device rating and the conductor's ampacity."""
     if ctx.rules == "nec":
-        return f"device {rating_a:g} A ≤ ampacity, or next standard rating above it (≤ 800 A)"
+        if rating_a <= ampacity_a:
+            return f"device {rating_a:g} A ≤ ampacity {ampacity_a:g} A"
+        return (f"device {rating_a:g} A is the next standard rating above ampacity {ampacity_a:g} A "
+                f"(allowed up to {NEC_NEXT_SIZE_UP_MAX_A:g} A)")
     factor = iec_fuse_i2_factor(rating_a) if ctx.device == "fuse" else IEC_BREAKER_I2_FACTOR
-    return f"I_n {rating_a:g} A ≤ I_z; I_2 = {factor:g} × {rating_a:g} = {factor * rating_a:.1f} A ≤ 1.45 I_z"
+    return (f"I_n {rating_a:g} A ≤ I_z {ampacity_a:g} A; I_2 = {factor:g} × {rating_a:g} = "
+            f"{factor * rating_a:.1f} A ≤ 1.45 × {ampacity_a:g} = {1.45 * ampacity_a:.1f} A")
 
 
 def _line(item: str, current_a: float, factor: float, required_a: float, rule: str, pick: Rating | None,
