@@ -124,6 +124,8 @@ def _read_text(path: Path) -> tuple[bytes, str]:
         raise _fail(path, f"over {MAX_TABLE_BYTES:,} bytes; a rating table may be at most that large")
     if not data.strip():
         raise _fail(path, "the file is empty; expected # comment lines, a header row and data rows")
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise _fail(path, "UTF-16 text (a spreadsheet's 'Unicode text'); save the table as CSV UTF-8")
     if b"\0" in data:
         line = data[: data.index(b"\0")].count(b"\n") + 1
         raise _fail(path, "not a text file (it holds NUL bytes); save the table as CSV text", line)

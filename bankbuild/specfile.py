@@ -54,6 +54,8 @@ def _read_bytes(path: Path, where: str) -> bytes:
         raise SpecError(where, "", f"not a usable file name ({exc})") from None
     if len(raw) > MAX_SPEC_BYTES:
         raise SpecError(where, "", f"file is over {MAX_SPEC_BYTES:,} bytes, the most a spec may be")
+    if raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise SpecError(where, "", "is UTF-16 text (an editor's 'Unicode' setting); save it as UTF-8")
     if b"\x00" in raw:
         raise SpecError(where, "", "is a binary file, not YAML text")
     return raw
