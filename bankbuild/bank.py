@@ -170,11 +170,16 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
                         detail=f"delivered {delivered:.1f} kvar at {v_s:g} V, {f_s:g} Hz; need {required:.1f} kvar"))
 
     ctx = circuit_context(spec, bank, catalogs, where, field)
+    floor_a, floor_text = 0.0, ""
+    if bank.motor is not None:  # NEC 460.8(A): also ≥ 1/3 of the motor circuit conductor's ampacity
+        floor_a = bank.motor.conductor_ampacity_a / 3
+        floor_text = f"motor conductor {bank.motor.conductor_ampacity_a:g} A / 3 (NEC 460.8(A))"
     sized = []
     for step in steps:
         basis_a = max(step.rated_current_a, step.line_current_a)
         circuit = size_circuit(ctx, f"Step {step.index}", basis_a, _basis_text(step.rated_current_a,
-                                                                                step.line_current_a), False)
+                                                                                step.line_current_a), False,
+                               floor_a, floor_text)
         checks.extend(circuit.checks)
         sized.append(step.model_copy(update={
             "device": ctx.device, "device_rating_a": circuit.device.value if circuit.device else 0.0,
@@ -184,7 +189,8 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
     rated_current = cap.line_current_a(rated_kvar, v_r)
     line_current = cap.line_current_a(delivered, v_s)
     main_basis = max(rated_current, line_current)
-    main_c = size_circuit(ctx, "Main", main_basis, _basis_text(rated_current, line_current), True)
+    main_c = size_circuit(ctx, "Main", main_basis, _basis_text(rated_current, line_current), True,
+                          floor_a, floor_text)
     checks.extend(main_c.checks)
     main = Main(rated_current_a=rated_current, design_current_a=main_basis, device=ctx.device,
                 conductor=main_c.conductor.designation if main_c.conductor else "none",

@@ -112,8 +112,12 @@ def _protects(ctx: CircuitContext, device: Rating | None):
 
 
 def size_circuit(ctx: CircuitContext, label: str, current_a: float, basis_text: str,
-                 with_disconnect: bool) -> Circuit:
-    """Size conductor, device (and disconnect) for a circuit carrying ``current_a`` [A]."""
+                 with_disconnect: bool, floor_a: float = 0.0, floor_text: str = "") -> Circuit:
+    """Size conductor, device (and disconnect) for a circuit carrying ``current_a`` [A].
+
+    ``floor_a`` is a further lower bound on the conductor ampacity [A] that another rule sets (e.g. a third
+    of the motor circuit conductor's ampacity for a capacitor at motor terminals), stated in ``floor_text``.
+    """
     lines: list[SizingLine] = []
     checks: list[Check] = []
     nec = ctx.rules == "nec"
@@ -141,7 +145,11 @@ def size_circuit(ctx: CircuitContext, label: str, current_a: float, basis_text: 
                                 detail=f"no frame ≥ {device.value:g} A in the frame table"))
 
     cond_req = ctx.conductor_factor * current_a
+    cond_formula = f"{ctx.conductor_factor:g} × {current_a:.1f} A ({basis_text}) = {cond_req:.1f} A"
     cond_rule = ("NEC 460.8(A)" if nec else "IEC 60831-1 1.3 × I_N (1.43 with tolerance)") + "; " + VERIFY
+    if floor_a > cond_req:
+        cond_req = floor_a
+        cond_formula = f"larger of {cond_formula} and {floor_text} = {floor_a:.1f} A"
     name = conductor_name(ctx.rules)
     min_par, max_single = ((NEC_MIN_PARALLEL_MM2, NEC_MAX_SINGLE_MM2) if nec
                            else (IEC_MIN_PARALLEL_MM2, IEC_MAX_SINGLE_MM2))
@@ -151,7 +159,7 @@ def size_circuit(ctx: CircuitContext, label: str, current_a: float, basis_text: 
                                max_single, accept=_protects(ctx, device))
     lines.append(SizingLine(
         item="Conductor ampacity", basis_a=current_a, factor=ctx.conductor_factor, required_a=cond_req,
-        formula=f"{ctx.conductor_factor:g} × {current_a:.1f} A ({basis_text}) = {cond_req:.1f} A",
+        formula=cond_formula,
         rule=cond_rule, chosen=(f"{plain.designation} ({ctx.conductor_label})" if plain else "none large enough"),
         chosen_a=plain.ampacity_a if plain else 0.0, ok=plain is not None))
     if plain is None:

@@ -149,7 +149,7 @@ def test_demo(capsys, tmp_path):
     code, out, err = cli(capsys, "demo", "--out", tmp_path / "demo", "--json")
     assert (code, err) == (0, "")
     doc = json.loads(out)
-    assert len(doc["banks"]) == 3
+    assert len(doc["banks"]) == 4  # the demo plant: detuned automatic, fixed, automatic, motor terminals
     assert (tmp_path / "demo" / "results.json").is_file()
 
 

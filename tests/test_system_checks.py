@@ -236,11 +236,13 @@ def test_motor_over_the_self_excitation_limit_suggests_a_smaller_bank(size_bank)
 def test_motor_conductor_one_third_rule(size_bank):
     # Source: NEC 460.8(A): ≥ 1/3 of the motor circuit conductor ampacity: 300 A / 3 = 100 A, above
     # 1.35 × 36.08 A = 48.7 A; NEC Table 310.16 (2023), Cu 75 °C: 3 AWG = 100 A.
+    # The pipeline sizes the capacitor conductor to that floor, so the check is met rather than flagged.
     bank = size_bank(need={"kvar": 30}, motor=MOTOR | {"conductor_ampacity_a": 300})
     conductor = check(bank, "Motor: capacitor conductor")
-    assert not conductor.ok
+    assert conductor.ok
     assert bank.system.motor.min_conductor_ampacity_a == pytest.approx(100.0)
     assert bank.system.motor.conductor == "3 AWG" and bank.system.motor.conductor_ampacity_a == 100
+    assert (bank.steps[0].conductor, bank.steps[0].conductor_ampacity_a) == ("3 AWG", 100)
     assert check(size_bank(need={"kvar": 30}, motor=MOTOR), "Motor: capacitor conductor").ok  # 150/3 = 50 A
 
 
