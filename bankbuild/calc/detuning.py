@@ -8,15 +8,8 @@ from __future__ import annotations
 
 import math
 
-
-def _finite_nonneg(name: str, value: float) -> None:
-    if not (math.isfinite(value) and value >= 0.0):
-        raise ValueError(f"{name} must be a finite number >= 0, got {value!r}")
-
-
-def _finite_pos(name: str, value: float) -> None:
-    if not (math.isfinite(value) and value > 0.0):
-        raise ValueError(f"{name} must be a finite number > 0, got {value!r}")
+from ._domain import finite_nonneg as _finite_nonneg
+from ._domain import finite_pos as _finite_pos
 
 
 def _tuning_factor(p: float, allow_zero: bool) -> None:

@@ -8,18 +8,13 @@ from __future__ import annotations
 
 import math
 
+from ._domain import finite_nonneg as _finite_nonneg
+from ._domain import finite_pos as _finite_pos
+
 HP_TO_KW = 0.745699872
 """Kilowatts per mechanical horsepower (550 ft·lbf/s)."""
 
 
-def _finite_nonneg(name: str, value: float) -> None:
-    if not (math.isfinite(value) and value >= 0.0):
-        raise ValueError(f"{name} must be a finite number >= 0, got {value!r}")
-
-
-def _finite_pos(name: str, value: float) -> None:
-    if not (math.isfinite(value) and value > 0.0):
-        raise ValueError(f"{name} must be a finite number > 0, got {value!r}")
 
 
 def _power_factor_value(name: str, pf: float) -> None:

@@ -7,18 +7,13 @@ from __future__ import annotations
 
 import math
 
+from ._domain import finite_nonneg as _finite_nonneg
+from ._domain import finite_pos as _finite_pos
+
 CHARACTERISTIC_HARMONICS = (5, 7, 11, 13)
 """Characteristic harmonics of six-pulse converters, the usual ones to keep resonance away from."""
 
 
-def _finite_nonneg(name: str, value: float) -> None:
-    if not (math.isfinite(value) and value >= 0.0):
-        raise ValueError(f"{name} must be a finite number >= 0, got {value!r}")
-
-
-def _finite_pos(name: str, value: float) -> None:
-    if not (math.isfinite(value) and value > 0.0):
-        raise ValueError(f"{name} must be a finite number > 0, got {value!r}")
 
 
 def transformer_sc_mva(transformer_kva: float, z_pct: float) -> float:
