@@ -63,7 +63,7 @@ def _from_loads(path: Path, pf_target: float | None, voltage_v: float) -> tuple[
     from .bank import load_pq
     from .errors import SpecError
     from .models import Need
-    from .specfile import _read_bytes, field_path, parse_yaml
+    from .specfile import _message, _read_bytes, field_path, parse_yaml
 
     data = parse_yaml(_read_bytes(path, str(path)), str(path))
     if pf_target is not None:
@@ -72,8 +72,7 @@ def _from_loads(path: Path, pf_target: float | None, voltage_v: float) -> tuple[
         need = Need.model_validate(data)
     except ValidationError as exc:
         first = exc.errors(include_url=False)[0]
-        raise SpecError(str(path), field_path(first["loc"], data),
-                        first["msg"].removeprefix("Value error, ")) from None
+        raise SpecError(str(path), field_path(first["loc"], data), _message(first)) from None  # as for a spec
     if need.form != "loads":
         raise SpecError(str(path), "loads", "the file must hold 'loads' (a list) and 'pf_target'")
     p_total = q_total = 0.0
