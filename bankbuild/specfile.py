@@ -282,6 +282,9 @@ def _message(error: dict) -> str:
     shown = repr(value)
     if len(shown) > 40:
         shown = shown[:37] + "..."
+    if kind in ("too_long", "string_too_long") and isinstance(value, str):
+        limit = (error.get("ctx") or {}).get("max_length", "?")
+        return f"text of {len(value):,} characters; at most {limit} are allowed"
     if kind in ("too_short", "too_long"):  # "List should have at least 1 item after validation, not 0"
         return f"{msg[0].lower()}{msg[1:]}".replace(" after validation, not ", " (got ") + ")"
     if kind in ("float_type", "int_type") and isinstance(value, str) and _is_number(value):
