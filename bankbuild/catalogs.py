@@ -15,6 +15,7 @@ import csv
 import difflib
 import functools
 import hashlib
+import os
 import re
 import shutil
 from dataclasses import dataclass, fields
@@ -112,6 +113,8 @@ def _fail(path: Path, problem: str, line: int | None = None, column: str = "") -
 def _read_text(path: Path) -> tuple[bytes, str]:
     """The file's bytes and its text; refuses missing, non-regular, binary and non-UTF-8 files."""
     if not path.exists():
+        if path.is_symlink():
+            raise _fail(path, "a link to a file that is not there (or a loop of links)")
         raise _fail(path, "file not found")
     if not path.is_file():
         raise _fail(path, "not a regular file")
@@ -248,7 +251,7 @@ def _known_files(folder: Path) -> list[TableSchema]:
             close = difflib.get_close_matches(entry.name.lower(), TABLES_BY_FILE, n=1, cutoff=0.6)
             hint = f"did you mean {close[0]}?" if close else f"expected one of {expected}"
             raise CatalogError(str(entry), "", f"not a known rating table; {hint}")
-    present = [t for t in TABLES if (folder / t.file_name).exists()]
+    present = [t for t in TABLES if os.path.lexists(folder / t.file_name)]  # a broken link is reported, not skipped
     if not present:
         raise CatalogError(str(folder), "", f"no rating tables found; expected one of {expected}")
     return present

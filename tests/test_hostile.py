@@ -377,3 +377,13 @@ def test_pdf_documents_show_markup_as_text(tmp_path: Path, capsys) -> None:
     flat = " ".join(text.split())
     assert "<b>3</b>" in flat  # the tags of the bank's name are printed, not obeyed
     assert "<font size=80>&amp;</font>" in flat  # and so are those of a unit's description from a table
+
+
+def test_a_broken_link_named_like_a_table_is_reported_not_skipped(tmp_path: Path, capsys) -> None:
+    tables = _tables(tmp_path / "tables", "fans.csv")  # one good table, so the folder is not empty
+    (tables / "breaker_frames.csv").symlink_to(tmp_path / "gone.csv")
+    (tables / "device_ratings.csv").symlink_to(tables / "device_ratings.csv")  # a loop
+    spec = tmp_path / "spec.yaml"
+    spec.write_text(GOOD, encoding="utf-8")
+    err = refused(spec, capsys, "--catalogs", str(tables))
+    assert "device_ratings.csv: a link to a file that is not there" in err  # the first in table order
