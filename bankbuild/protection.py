@@ -139,7 +139,7 @@ def size_circuit(ctx: CircuitContext, label: str, current_a: float, basis_text: 
     if ctx.device == "breaker" and device is not None:
         frame = next_rating(ctx.frame_rows, device.value, "frame_a", "{:g} AF")
         lines.append(_line("Breaker frame", device.value, 1.0, device.value, "frame ≥ trip rating",
-                           frame, "trip rating", unit_label="AF"))
+                           frame, "trip rating"))
         if frame is None:
             checks.append(Check(name=f"{label}: breaker frame", ok=False, rule="frame ≥ trip rating",
                                 detail=f"no frame ≥ {device.value:g} A in the frame table"))
@@ -218,7 +218,7 @@ def _coord_formula(ctx: CircuitContext, rating_a: float, ampacity_a: float) -> s
 
 
 def _line(item: str, current_a: float, factor: float, required_a: float, rule: str, pick: Rating | None,
-          basis_text: str, unit_label: str = "A") -> SizingLine:
+          basis_text: str) -> SizingLine:
     return SizingLine(
         item=item, basis_a=current_a, factor=factor, required_a=required_a,
         formula=f"{factor:g} × {current_a:.1f} A ({basis_text}) = {required_a:.1f} A", rule=rule,

@@ -119,9 +119,9 @@ def test_detuned_steps_limit_back_to_back_inrush(catalogs):
     # Two 50 kvar steps at 480 V 60 Hz: plain steps with 5 µH between them versus detuned steps with their
     # 7 % reactors (about 0.8 mH each) in the loop. Source: I_pk ∝ 1/√L (trade-facts.md inrush formulas).
     caps = [capacitance_uf(50.0, 480.0, 60.0)] * 2
-    plain = step_switching(1, [60.1, 60.1], caps, [0.0, 0.0], 60.1, 60.1, 480.0, 60.0, 5.0, None,
+    plain = step_switching(1, caps, [0.0, 0.0], 60.1, 60.1, 480.0, 5.0, None,
                            catalogs.contactors)
-    detuned = step_switching(1, [60.1, 60.1], caps, [800.0, 800.0], 60.1, 60.1, 480.0, 60.0, 5.0, None,
+    detuned = step_switching(1, caps, [800.0, 800.0], 60.1, 60.1, 480.0, 5.0, None,
                              catalogs.contactors)
     assert plain.loop_inductance_uh == 5.0 and detuned.loop_inductance_uh == 1605.0
     assert detuned.back_to_back_peak_a == pytest.approx(plain.back_to_back_peak_a * math.sqrt(5 / 1605))
@@ -132,7 +132,7 @@ def test_detuned_steps_limit_back_to_back_inrush(catalogs):
 
 
 def test_no_contactor_large_enough_is_reported_not_raised(catalogs):
-    sw = step_switching(0, [800.0], [9000.0], [0.0], 800.0, 800.0, 480.0, 60.0, 5.0, None, catalogs.contactors)
+    sw = step_switching(0, [9000.0], [0.0], 800.0, 800.0, 480.0, 5.0, None, catalogs.contactors)
     assert sw.contactor is None and sw.contactor_current_a == 0.0
 
 

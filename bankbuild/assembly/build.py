@@ -141,9 +141,8 @@ def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankR
         for k, s in enumerate(steps):
             rms = s.reactor.required_current_a if s.reactor else s.line_current_a
             basis = max(s.rated_current_a, rms if math.isfinite(rms) else s.line_current_a)
-            sw = step_switching(k, [x.line_current_a for x in steps], caps, reactors_uh, s.rated_current_a,
-                                opts.contactor_factor * basis, v_s, f_s, opts.inter_step_inductance_uh, source_uh,
-                                catalogs.contactors)
+            sw = step_switching(k, caps, reactors_uh, s.rated_current_a, opts.contactor_factor * basis, v_s,
+                                opts.inter_step_inductance_uh, source_uh, catalogs.contactors)
             switched.append(s.model_copy(update={"switching": sw}))
         steps = switched
         checks += _switching_checks(steps, v_s, opts.contactor_factor)

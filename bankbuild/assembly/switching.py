@@ -140,18 +140,15 @@ def pick_contactor(rows: Sequence, required_a: float, peak_a: float | None, capa
     return (damped or plain or [None])[0], True
 
 
-def step_switching(index: int, currents_a: Sequence[float], capacitances_uf: Sequence[float],
-                   reactors_uh: Sequence[float], rated_current_a: float, required_a: float, voltage_v: float,
-                   frequency_hz: float, inter_step_uh: float, source_uh: float | None,
-                   rows: Sequence) -> StepSwitching:
+def step_switching(index: int, capacitances_uf: Sequence[float], reactors_uh: Sequence[float],
+                   rated_current_a: float, required_a: float, voltage_v: float, inter_step_uh: float,
+                   source_uh: float | None, rows: Sequence) -> StepSwitching:
     """Inrush and contactor of step ``index`` (0-based) of an automatic bank.
 
     Parameters
     ----------
     index : int
         Which step, 0-based.
-    currents_a : sequence of float
-        Operating current of every step [A] (kept for the caller's record; the peak uses capacitance).
     capacitances_uf : sequence of float
         Capacitance per phase (wye equivalent) of every step [µF].
     reactors_uh : sequence of float
@@ -160,8 +157,8 @@ def step_switching(index: int, currents_a: Sequence[float], capacitances_uf: Seq
         The step's rated current, basis of the capacitor's inrush limit [A].
     required_a : float
         Current the contactor's capacitor-duty rating must reach [A].
-    voltage_v, frequency_hz : float
-        The supply [V], [Hz].
+    voltage_v : float
+        The supply voltage [V].
     inter_step_uh : float
         Assumed inductance between two steps [µH].
     source_uh : float or None

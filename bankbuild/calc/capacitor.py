@@ -72,6 +72,11 @@ def rerate_kvar(
     return rated_kvar * (voltage_v / rated_voltage_v) ** 2 * (frequency_hz / rated_frequency_hz)
 
 
+def _legs_omega(connection: str, frequency_hz: float) -> float:
+    """3ω for delta (three legs across V_LL), ω for wye (the per-leg form Q = ω·C·V_LL²) [rad/s]."""
+    return (3.0 if _connection(connection) == "delta" else 1.0) * 2.0 * math.pi * frequency_hz
+
+
 def line_current_a(reactive_kvar: float, voltage_v: float) -> float:
     """Line current drawn by a three-phase capacitor bank.
 
@@ -210,9 +215,7 @@ def capacitance_uf_per_leg(
     _finite_nonneg("reactive_kvar", reactive_kvar)
     _finite_pos("voltage_v", voltage_v)
     _finite_pos("frequency_hz", frequency_hz)
-    legs = 3.0 if _connection(connection) == "delta" else 1.0
-    omega = 2.0 * math.pi * frequency_hz
-    return 1000.0 * reactive_kvar / (legs * omega * voltage_v**2) * 1e6
+    return 1000.0 * reactive_kvar / (_legs_omega(connection, frequency_hz) * voltage_v**2) * 1e6
 
 
 def kvar_from_capacitance(
@@ -252,9 +255,7 @@ def kvar_from_capacitance(
     _finite_nonneg("capacitance_uf_per_leg", capacitance_uf_per_leg)
     _finite_nonneg("voltage_v", voltage_v)
     _finite_pos("frequency_hz", frequency_hz)
-    legs = 3.0 if _connection(connection) == "delta" else 1.0
-    omega = 2.0 * math.pi * frequency_hz
-    return legs * omega * capacitance_uf_per_leg * 1e-6 * voltage_v**2 / 1000.0
+    return _legs_omega(connection, frequency_hz) * capacitance_uf_per_leg * 1e-6 * voltage_v**2 / 1000.0
 
 
 def reactance_ohm(capacitance_uf: float, frequency_hz: float) -> float:

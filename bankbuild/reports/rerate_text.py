@@ -11,6 +11,8 @@ import json
 
 from ..rerate_results import RerateBank, RerateResult
 from .jsonout import _clean
+from .tables import neutralise
+from .terminal import closing_lines
 
 
 def _supply(v: float, f: float) -> str:
@@ -79,27 +81,13 @@ def rerate_text(result: RerateResult, written: list[str] | None = None) -> str:
     for bank in result.banks:
         lines.extend(bank_text(bank))
         lines.append("")
-    if written:
-        lines.append("written:")
-        lines.extend(f"  {path}" for path in written)
-        lines.append("")
-    lines.append("CAUTION: " + result.cautions[-1])
-    lines.append("CAUTION: " + result.cautions[2])
+    lines.extend(closing_lines(written, [result.cautions[-1], result.cautions[2]]))
     return "\n".join(lines)
 
 
 def rerate_json(result: RerateResult) -> str:
     """The re-rating results as one JSON document; each bank's ``resized`` has the keys of ``size --json``."""
     return json.dumps(_clean(result.model_dump(mode="python")), indent=2, ensure_ascii=False)
-
-
-def _cell(value: str) -> str:
-    """A text cell a spreadsheet will not run as a formula.
-
-    >>> _cell("=1+2"), _cell("Fuse 50 A")
-    ("'=1+2", 'Fuse 50 A')
-    """
-    return "'" + value if value[:1] in ("=", "+", "-", "@", "\t", "\r") else value
 
 
 def bom_difference_csv(result: RerateResult) -> str:
@@ -109,6 +97,6 @@ def bom_difference_csv(result: RerateResult) -> str:
     writer.writerow(["bank", "action", "qty", "unit", "category", "description", "unit_id", "basis"])
     for bank in result.banks:
         for change in bank.bom_difference:
-            writer.writerow([_cell(bank.name), change.action, f"{change.qty:g}", change.unit, change.category,
-                             _cell(change.description), _cell(change.id), bank.bom_basis])
+            writer.writerow([neutralise(bank.name), change.action, f"{change.qty:g}", change.unit, change.category,
+                             neutralise(change.description), neutralise(change.id), bank.bom_basis])
     return buffer.getvalue()

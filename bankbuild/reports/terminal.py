@@ -162,10 +162,11 @@ def project_summary(result: ProjectResult, written: list[str] | None = None) -> 
     if result.bom and len(result.banks) > 1:
         lines.append(f"project bill of materials: {len(result.bom)} lines, the banks' parts merged (in the files)")
         lines.append("")
-    if written:
-        lines.append("written:")
-        lines.extend(f"  {path}" for path in written)
-        lines.append("")
-    lines.append("CAUTION: " + result.cautions[0])
-    lines.append("CAUTION: " + result.cautions[2])
+    lines.extend(closing_lines(written, [result.cautions[0], result.cautions[2]]))
     return "\n".join(lines)
+
+
+def closing_lines(written: list[str] | None, cautions: list[str]) -> list[str]:
+    """The end of a terminal summary: the files written, then the cautions picked for it."""
+    lines = ["written:", *(f"  {path}" for path in written), ""] if written else []
+    return lines + ["CAUTION: " + caution for caution in cautions]

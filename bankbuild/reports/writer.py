@@ -35,17 +35,7 @@ def write_documents(result: ProjectResult, out_dir: Path, on_document=None) -> l
     """
     from .render import render_documents
 
-    rendered = render_documents(result, _writers(), on_document)
-    try:
-        out_dir.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise OptionError(str(out_dir), "--out", f"cannot create the folder ({exc.strerror or exc})") from None
-    if not out_dir.is_dir():
-        raise OptionError(str(out_dir), "--out", "is not a folder")
-    written = []
-    for name, data in rendered:
-        written.append(write_atomic(out_dir / name, data))
-    return written
+    return write_rendered(render_documents(result, _writers(), on_document), out_dir)
 
 
 def write_rendered(rendered: list[tuple[str, bytes]], out_dir: Path) -> list[Path]:
