@@ -1,3 +1,5 @@
 """bankbuild: size, protect and document low-voltage power-factor-correction capacitor banks."""
 
-__version__ = "0.1.0"
+from bankbuild._version import __version__
+
+__all__ = ["__version__"]

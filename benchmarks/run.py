@@ -36,11 +36,11 @@ from plant import write_plant_spec  # noqa: E402
 
 PYTHON = sys.executable
 _SCRIPT = Path(PYTHON).parent / "bankbuild"  # the installed command, as a user runs it
-BANKBUILD = [str(_SCRIPT)] if _SCRIPT.exists() else [PYTHON, "-c", "from bankbuild.cli import main; main()"]
+BANKBUILD = [str(_SCRIPT)] if _SCRIPT.exists() else [PYTHON, "-c", "from bankbuild.cli.app import main; main()"]
 # Which library modules a demo run loads: everything imported from outside the standard library and bankbuild.
 _LIST_MODULES = """
 import contextlib, io, sys
-from bankbuild.cli import run
+from bankbuild.cli.app import run
 from bankbuild.reports import render
 render.cores = lambda: 1  # render here, so that the modules the document workers import are seen too
 with contextlib.redirect_stdout(io.StringIO()):
@@ -121,7 +121,7 @@ def demo_libraries(work: Path) -> list[str]:
 def _demo_banks() -> int:
     import yaml
 
-    from bankbuild.runner import demo_spec_path
+    from bankbuild.api import demo_spec_path
 
     return len(yaml.safe_load(demo_spec_path().read_text(encoding="utf-8"))["banks"])
 
@@ -157,8 +157,8 @@ def bench_selection() -> list[Row]:
             rows.append(Row(f"select 5,000 kvar, {label}", f"{ms:.1f} ms", "median of 21 runs, cache cleared",
                             f"{ms:.1f} ms", "< 100 ms", ms < 100.0))
         return rows
-    from bankbuild.catalogs import load_catalogs
-    from bankbuild.select import _best, build_step
+    from bankbuild.design.select import _best, build_step
+    from bankbuild.tables.load import load_catalogs
 
     units = [u for u in load_catalogs().capacitor_units if (u.rated_voltage_v, u.rated_frequency_hz) == (480, 60)]
     times = []
@@ -198,10 +198,10 @@ def bench_plant(runs: int, work: Path, with_documents: bool) -> list[Row]:
 
 _GROWTH = """
 import json, statistics, sys, time
-from bankbuild.bank import size_project
-from bankbuild.catalogs import load_catalogs
+from bankbuild.design.sizing import size_project
+from bankbuild.tables.load import load_catalogs
 from bankbuild.reports.jsonout import project_json
-from bankbuild.specfile import read_spec
+from bankbuild.spec.read import read_spec
 catalogs = load_catalogs()
 runs, out = int(sys.argv[1]), {}
 for path in sys.argv[2:]:

@@ -1,7 +1,7 @@
 """Benchmark: selecting a 5,000 kvar bank of 25 steps from a 60-row capacitor unit table.
 
-The selection is the step plan (:func:`bankbuild.assembly.stepplan.propose_steps`), the exact unit search of
-every step (:func:`bankbuild.select.build_step`) and the reachable values (:func:`~bankbuild.assembly.stepplan.
+The selection is the step plan (:func:`bankbuild.design.stepplan.propose_steps`), the exact unit search of
+every step (:func:`bankbuild.design.select.build_step`) and the reachable values (:func:`~bankbuild.design.stepplan.
 reachable`). The unit table is invented: 60 ratings at 480 V / 60 Hz from 1 to 101.3 kvar in uneven steps, so
 the search cannot lean on round numbers. The search's cache is cleared before every run, so each run computes
 from scratch. Target: under 100 ms of compute per selection (the median is printed).
@@ -19,9 +19,9 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from bankbuild.assembly.stepplan import propose_steps, reachable  # noqa: E402
-from bankbuild.catalog_schema import CapacitorUnit  # noqa: E402
-from bankbuild.select import _best, build_step  # noqa: E402
+from bankbuild.design.select import _best, build_step  # noqa: E402
+from bankbuild.design.stepplan import propose_steps, reachable  # noqa: E402
+from bankbuild.tables.rows import CapacitorUnit  # noqa: E402
 
 NEED_KVAR = 5000.0
 STEPS = 25

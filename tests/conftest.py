@@ -39,7 +39,7 @@ def spec_dict(*banks: dict, **top) -> dict:
 @pytest.fixture(scope="session")
 def catalogs():
     """The built-in rating tables, loaded once."""
-    from bankbuild.catalogs import load_catalogs
+    from bankbuild.tables.load import load_catalogs
 
     return load_catalogs()
 
@@ -47,8 +47,8 @@ def catalogs():
 @pytest.fixture(scope="session")
 def size(catalogs):
     """Validate a spec mapping and run the pipeline on it; returns the ProjectResult."""
-    from bankbuild.bank import size_project
-    from bankbuild.models import Spec
+    from bankbuild.design.sizing import size_project
+    from bankbuild.spec.model import Spec
 
     def run(data: dict, tables=None):
         return size_project(Spec.model_validate(data), tables or catalogs)

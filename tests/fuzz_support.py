@@ -13,12 +13,12 @@ import math
 
 from hypothesis import strategies as st
 
-from bankbuild.bank import size_project
-from bankbuild.catalogs import load_catalogs
+from bankbuild.design.sizing import size_project
 from bankbuild.errors import BankbuildError, SpecError
-from bankbuild.models import Protection
 from bankbuild.reports.jsonout import project_json
-from bankbuild.specfile import validate_spec
+from bankbuild.spec.model import Protection
+from bankbuild.spec.read import validate_spec
+from bankbuild.tables.load import load_catalogs
 
 EPS = 1e-6
 SQRT3 = math.sqrt(3)

@@ -9,7 +9,7 @@ from pathlib import Path
 import pypdf
 import yaml
 
-from bankbuild.runner import run_spec
+from bankbuild.api import run_spec
 
 
 def pages_text(data: bytes) -> list[str]:

@@ -30,10 +30,10 @@ from fuzz_support import BUILTIN, broken_spec, check_invariants, run_spec_data, 
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from bankbuild.catalogs import builtin_dir, load_catalogs
 from bankbuild.errors import SpecError
 from bankbuild.reports.jsonout import project_json
-from bankbuild.specfile import parse_yaml
+from bankbuild.spec.read import parse_yaml
+from bankbuild.tables.load import builtin_dir, load_catalogs
 
 FUZZ = settings(deadline=None, derandomize=True, database=None,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])

@@ -13,9 +13,9 @@ from pathlib import Path
 
 import pytest
 
-from bankbuild.catalogs import MAX_TABLE_BYTES, builtin_dir
-from bankbuild.cli import run
-from bankbuild.specfile import MAX_DEPTH, MAX_NODES, MAX_SPEC_BYTES
+from bankbuild.cli.app import run
+from bankbuild.spec.read import MAX_DEPTH, MAX_NODES, MAX_SPEC_BYTES
+from bankbuild.tables.load import MAX_TABLE_BYTES, builtin_dir
 
 GOOD = """\
 banks:
@@ -94,7 +94,7 @@ def test_deep_block_nesting_is_refused(tmp_path: Path, capsys) -> None:
 
 
 def test_nesting_at_the_limit_is_read(tmp_path: Path) -> None:
-    from bankbuild.specfile import parse_yaml
+    from bankbuild.spec.read import parse_yaml
 
     text = "top: " + "[" * (MAX_DEPTH - 1) + "]" * (MAX_DEPTH - 1) + "\n"
     assert parse_yaml(text.encode(), "t.yaml")["top"] is not None

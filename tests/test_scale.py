@@ -9,7 +9,7 @@ import json
 import sys
 from pathlib import Path
 
-from bankbuild.cli import run
+from bankbuild.cli.app import run
 
 sys.path.insert(0, str(Path(__file__).parents[1] / "benchmarks"))
 from plant import plant_spec_text, write_plant_spec  # noqa: E402

@@ -8,8 +8,8 @@ from __future__ import annotations
 
 import math
 
-from ._domain import finite_nonneg as _finite_nonneg
-from ._domain import finite_pos as _finite_pos
+from bankbuild.calc._domain import finite_nonneg as _finite_nonneg
+from bankbuild.calc._domain import finite_pos as _finite_pos
 
 
 def start_voltage_v(rated_voltage_v: float) -> float:

@@ -7,8 +7,8 @@ from __future__ import annotations
 
 import math
 
-from ._domain import finite_nonneg as _finite_nonneg
-from ._domain import finite_pos as _finite_pos
+from bankbuild.calc._domain import finite_nonneg as _finite_nonneg
+from bankbuild.calc._domain import finite_pos as _finite_pos
 
 CHARACTERISTIC_HARMONICS = (5, 7, 11, 13)
 """Characteristic harmonics of six-pulse converters, the usual ones to keep resonance away from."""

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from ..results import ProjectResult
+from bankbuild.results.sizing import ProjectResult
 
 
 def _clean(value):

@@ -7,8 +7,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from ..results import ProjectResult
-from .pdf_common import (
+from bankbuild.reports.pdf_common import (
     CAUTION_EDGE,
     CAUTION_FILL,
     FLAG_RED,
@@ -24,6 +23,7 @@ from .pdf_common import (
     plain_text,
     styles,
 )
+from bankbuild.results.sizing import ProjectResult
 
 
 @dataclass(frozen=True)

@@ -1,14 +1,23 @@
 """The bill of materials as a PDF: title block, a summary of each bank, its line items, provenance.
 
-It reads :class:`~bankbuild.results.BomLine` rows only (the pipeline merges identical parts and names the table
+It reads :class:`~bankbuild.results.sizing.BomLine` rows only (the pipeline merges identical parts and names the table
 row each came from); it does not invent items. reportlab is imported inside the functions.
 """
 
 from __future__ import annotations
 
-from ..results import BankResult, BomLine, ProjectResult
-from .pdf_blocks import C, cautions_box, gap, grid, key_values, provenance_block, section_break, title_block
-from .pdf_common import PM, P, build_pdf, frame_for, gnum, num, para_text
+from bankbuild.reports.pdf_blocks import (
+    C,
+    cautions_box,
+    gap,
+    grid,
+    key_values,
+    provenance_block,
+    section_break,
+    title_block,
+)
+from bankbuild.reports.pdf_common import PM, P, build_pdf, frame_for, gnum, num, para_text
+from bankbuild.results.sizing import BankResult, BomLine, ProjectResult
 
 DOC_TITLE = "Bill of materials"
 

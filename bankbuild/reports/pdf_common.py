@@ -19,8 +19,8 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
 
-from ..errors import BankbuildError
-from ..results import ProjectResult
+from bankbuild.errors import BankbuildError
+from bankbuild.results.sizing import ProjectResult
 
 FONT = "BankbuildSans"
 FONT_BOLD = "BankbuildSans-Bold"
@@ -362,7 +362,7 @@ def render_pdfs(result: ProjectResult) -> list[tuple[str, bytes]]:
 
     This is the call a benchmark can time for 'all PDF documents of a run'.
     """
-    from .pdf_bom import bom_pdf
-    from .pdf_worksheet import worksheet_pdf
+    from bankbuild.reports.pdf_bom import bom_pdf
+    from bankbuild.reports.pdf_worksheet import worksheet_pdf
 
     return [(PDF_FILES[0], bom_pdf(result)), (PDF_FILES[1], worksheet_pdf(result))]

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import re
 
-from .pdf_common import num
+from bankbuild.reports.pdf_common import num
 
 UNIT_SUFFIXES = {"a": "A", "v": "V", "s": "s", "hz": "Hz", "uh": "µH", "mh": "mH", "uf": "µF", "ohm": "Ω",
                  "w": "W", "kw": "kW", "kvar": "kvar", "kva": "kVA", "va": "VA", "mva": "MVA", "pct": "%",

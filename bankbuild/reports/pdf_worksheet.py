@@ -1,7 +1,7 @@
 """The protection worksheet as a PDF: one section per bank that shows every sizing step so it can be checked.
 
 For each bank: the inputs; the units and currents of each step with the formula written out; then for the main
-incomer and each step every :class:`~bankbuild.results.SizingLine` as a row (what is sized, the formula with the
+incomer and each step every :class:`~bankbuild.results.sizing.SizingLine` as a row (what is sized, the formula with the
 numbers in it, the factor, the rule, the computed value, the standard rating chosen, pass / flag); detuning;
 discharge, resonance, voltage rise, inrush and reconnection (:mod:`.pdf_worksheet_system`); every check. The
 document ends with the cautions, the provenance and a sign-off block. reportlab is imported inside functions.
@@ -9,8 +9,7 @@ document ends with the cautions, the provenance and a sign-off block. reportlab 
 
 from __future__ import annotations
 
-from ..results import BankResult, ProjectResult, SizingLine, Step
-from .pdf_blocks import (
+from bankbuild.reports.pdf_blocks import (
     C,
     cautions_box,
     gap,
@@ -22,10 +21,23 @@ from .pdf_blocks import (
     title_block,
     verdict,
 )
-from .pdf_bom import detuning_text, need_text, steps_text, supply_text
-from .pdf_common import CAUTION_EDGE, FONT, INK, PM, RULE_GREY, P, build_pdf, frame_for, gnum, num, para_text
-from .pdf_worksheet_assembly import assembly_sections
-from .pdf_worksheet_system import system_sections
+from bankbuild.reports.pdf_bom import detuning_text, need_text, steps_text, supply_text
+from bankbuild.reports.pdf_common import (
+    CAUTION_EDGE,
+    FONT,
+    INK,
+    PM,
+    RULE_GREY,
+    P,
+    build_pdf,
+    frame_for,
+    gnum,
+    num,
+    para_text,
+)
+from bankbuild.reports.pdf_worksheet_assembly import assembly_sections
+from bankbuild.reports.pdf_worksheet_system import system_sections
+from bankbuild.results.sizing import BankResult, ProjectResult, SizingLine, Step
 
 DOC_TITLE = "Protection worksheet"
 SIZING_SHARES = (0.11, 0.24, 0.07, 0.20, 0.10, 0.20, 0.08)

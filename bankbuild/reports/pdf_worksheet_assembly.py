@@ -7,10 +7,10 @@ Every field is read with ``getattr`` so that the worksheet renders results with 
 
 from __future__ import annotations
 
-from ..results import BankResult
-from .pdf_blocks import C, grid, heading, key_values, verdict
-from .pdf_common import P, num
-from .pdf_figures import model_pairs
+from bankbuild.reports.pdf_blocks import C, grid, heading, key_values, verdict
+from bankbuild.reports.pdf_common import P, num
+from bankbuild.reports.pdf_figures import model_pairs
+from bankbuild.results.sizing import BankResult
 
 
 def pick_text(pick) -> str:

@@ -10,10 +10,10 @@ from __future__ import annotations
 import math
 import re
 
-from ..results import BankResult
-from .pdf_blocks import C, grid, heading, key_values, verdict
-from .pdf_common import P, gnum, num
-from .pdf_figures import bank_pairs, model_pairs
+from bankbuild.reports.pdf_blocks import C, grid, heading, key_values, verdict
+from bankbuild.reports.pdf_common import P, gnum, num
+from bankbuild.reports.pdf_figures import bank_pairs, model_pairs
+from bankbuild.results.sizing import BankResult
 
 HARMONICS = (5, 7, 11, 13)
 NEAR_BAND_PCT = 10  # the pipeline flags an order within ±10% of a characteristic harmonic

@@ -1,6 +1,6 @@
 """The ``rerate`` outputs: terminal summary, JSON document, and the bill-of-materials difference as CSV.
 
-They read the rerate results only (:mod:`bankbuild.rerate_results`).
+They read the rerate results only (:mod:`bankbuild.results.rerate`).
 """
 
 from __future__ import annotations
@@ -9,10 +9,10 @@ import csv
 import io
 import json
 
-from ..rerate_results import RerateBank, RerateResult
-from .jsonout import _clean
-from .tables import neutralise
-from .terminal import closing_lines
+from bankbuild.reports.jsonout import _clean
+from bankbuild.reports.tables import neutralise
+from bankbuild.reports.terminal import closing_lines
+from bankbuild.results.rerate import RerateBank, RerateResult
 
 
 def _supply(v: float, f: float) -> str:

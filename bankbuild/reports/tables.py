@@ -12,7 +12,7 @@ import csv
 import io
 import json
 
-from ..results import BomLine, ProjectResult
+from bankbuild.results.sizing import BomLine, ProjectResult
 
 COLUMNS = ("scope", "item", "qty", "unit", "category", "description", "table", "row", "notes")
 PROJECT_SCOPE = "Project (all banks)"

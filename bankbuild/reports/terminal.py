@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..results import BankResult, ProjectResult
+from bankbuild.results.sizing import BankResult, ProjectResult
 
 
 def _fmt_a(value: float) -> str:

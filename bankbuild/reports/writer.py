@@ -7,16 +7,16 @@ import tempfile
 from collections.abc import Callable
 from pathlib import Path
 
-from ..errors import OptionError
-from ..results import ProjectResult
+from bankbuild.errors import OptionError
+from bankbuild.results.sizing import ProjectResult
 
 
 def _writers() -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
     """(file name, renderer) pairs: each renderer returns the whole file as bytes."""
-    from .jsonout import project_json
-    from .pdf_bom import bom_pdf
-    from .pdf_worksheet import worksheet_pdf
-    from .tables import bom_csv, bom_json, bom_xlsx
+    from bankbuild.reports.jsonout import project_json
+    from bankbuild.reports.pdf_bom import bom_pdf
+    from bankbuild.reports.pdf_worksheet import worksheet_pdf
+    from bankbuild.reports.tables import bom_csv, bom_json, bom_xlsx
 
     return [("results.json", lambda r: project_json(r).encode("utf-8")),
             ("bill-of-materials.pdf", bom_pdf),
@@ -33,7 +33,7 @@ def write_documents(result: ProjectResult, out_dir: Path, on_document=None) -> l
     ``on_document(done, total, name)``, if given, reports progress (see :mod:`bankbuild.reports.render`, which
     renders a large plant's documents on several cores).
     """
-    from .render import render_documents
+    from bankbuild.reports.render import render_documents
 
     return write_rendered(render_documents(result, _writers(), on_document), out_dir)
 

@@ -1,0 +1,217 @@
+"""The command line: parse, call the library, write reports, map the library's errors to exit code 2.
+
+Heavy libraries (pandas, reportlab, openpyxl) are imported inside the commands that need them, so that
+``bankbuild --help`` starts fast.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from bankbuild.errors import BankbuildError, OptionError
+
+app = typer.Typer(
+    name="bankbuild", add_completion=False, no_args_is_help=True, rich_markup_mode=None,
+    pretty_exceptions_enable=False,
+    help="Size, protect and document low-voltage power-factor-correction capacitor banks.\n\n"
+         "Start with 'bankbuild demo' or 'bankbuild init my-bank.yaml', then 'bankbuild size my-bank.yaml'.",
+)
+catalog_app = typer.Typer(no_args_is_help=True, rich_markup_mode=None,
+                          help="Check the rating tables, or copy the built-in ones to edit.")
+app.add_typer(catalog_app, name="catalog")
+
+OutOpt = Annotated[Path | None, typer.Option("--out", help="Folder for the documents (created if missing); "
+                                                          "default bankbuild-out, or none with --json.")]
+JsonOpt = Annotated[bool, typer.Option("--json", help="Print the results as one JSON document on stdout.")]
+CatOpt = Annotated[Path | None, typer.Option("--catalogs", help="Folder of rating tables that replace the "
+                                                                "built-in ones (overrides the spec's).")]
+
+
+def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Path | None, label: str) -> None:
+    """Size, then write the documents: into ``out``, or ``bankbuild-out``; with ``--json`` only when ``--out``
+    is given, so that the JSON of a large plant comes in seconds without rendering every PDF page."""
+    from bankbuild.api import run_spec
+    from bankbuild.cli.progress import Progress
+    from bankbuild.reports.jsonout import project_json
+    from bankbuild.reports.terminal import project_summary
+    from bankbuild.reports.writer import write_documents
+
+    with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
+        result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"))
+        if out is None and not as_json:
+            out = Path("bankbuild-out")
+        written = [] if out is None else write_documents(result, out,
+                                                           on_document=progress.callback("writing documents"))
+    if as_json:
+        typer.echo(project_json(result))
+    else:
+        typer.echo(project_summary(result, [str(p) for p in written]))
+
+
+@app.command()
+def size(spec: Annotated[Path, typer.Argument(help="The bank spec (YAML).")],
+         out: OutOpt = None, json: JsonOpt = False, catalogs: CatOpt = None) -> None:
+    """Size every bank in SPEC and write its documents.
+
+    Example: bankbuild size plant.yaml --out quote-2041
+    """
+    _run_size(spec, out, json, catalogs, str(spec))
+
+
+@app.command()
+def demo(out: OutOpt = None, json: JsonOpt = False) -> None:
+    """Run the built-in demo plant (an invented site) and write its documents.
+
+    Example: bankbuild demo --out demo-docs
+    """
+    from bankbuild.api import demo_spec_path
+
+    _run_size(demo_spec_path(), out, json, None, "demo.yaml (built-in)")
+
+
+@app.command()
+def init(path: Annotated[Path, typer.Argument(help="Where to write the starter spec.")] = Path("bank.yaml"),
+         force: Annotated[bool, typer.Option("--force", help="Replace an existing file.")] = False) -> None:
+    """Write a commented starter spec to edit.
+
+    Example: bankbuild init line3.yaml
+    """
+    from bankbuild.api import starter_spec_text
+
+    if path.exists() and not force:
+        raise OptionError(str(path), "", "already exists; use --force to replace it")
+    if path.exists() and path.is_dir():
+        raise OptionError(str(path), "", "is a folder; give a file name")
+    try:
+        path.write_text(starter_spec_text(), encoding="utf-8")
+    except OSError as exc:
+        raise OptionError(str(path), "", f"cannot write ({exc.strerror or exc})") from None
+    typer.echo(f"wrote {path}: edit it, then run 'bankbuild size {path}'")
+
+
+@app.command()
+def kvar(kw: Annotated[float | None, typer.Option("--kw", help="Active power of the load [kW].")] = None,
+         pf_present: Annotated[float | None, typer.Option("--pf-present", help="Present power factor.")] = None,
+         pf_target: Annotated[float | None, typer.Option("--pf-target", help="Target power factor.")] = None,
+         loads: Annotated[Path | None, typer.Option("--loads", help="YAML file with 'pf_target' and 'loads'.")]
+         = None,
+         voltage_v: Annotated[float, typer.Option("--voltage-v", help="Supply line-to-line voltage [V].")] = 480.0,
+         frequency_hz: Annotated[float, typer.Option("--frequency-hz", help="Supply frequency [Hz].")] = 60.0,
+         json: JsonOpt = False) -> None:
+    """Quick figure: kvar to correct a load, µF per leg, and line currents before and after.
+
+    Example: bankbuild kvar --kw 250 --pf-present 0.72 --pf-target 0.96 --voltage-v 480
+    """
+    from bankbuild.design.quick import kvar_figures, kvar_text
+
+    figures = kvar_figures(kw, pf_present, pf_target, loads, voltage_v, frequency_hz)
+    typer.echo(_dumps(figures) if json else kvar_text(figures))
+
+
+@app.command()
+def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing bank(s) (YAML).")],
+           voltage_v: Annotated[float, typer.Option("--voltage-v", help="New supply line-to-line voltage [V].")],
+           frequency_hz: Annotated[float | None, typer.Option(
+               "--frequency-hz", help="New supply frequency [Hz]; default: each bank's own.")] = None,
+           out: Annotated[Path | None, typer.Option(
+               "--out", help="Folder for rerate.json, rerate.txt and rerate-bom-difference.csv.")] = None,
+           json: JsonOpt = False, catalogs: CatOpt = None,
+           transformer_kva: Annotated[float | None, typer.Option(
+               "--transformer-kva", help="Transformer at the new supply [kVA]; default: the spec's.")] = None,
+           transformer_z_pct: Annotated[float | None, typer.Option(
+               "--transformer-z-pct", help="Its impedance [%].")] = None,
+           source_sc_mva: Annotated[float | None, typer.Option(
+               "--source-sc-mva", help="Utility short-circuit level in series with it [MVA].")] = None) -> None:
+    """Move each bank of SPEC to another supply: kvar (∝ V²·f), currents, capacitor voltage, system checks,
+    which installed parts still fit, and a re-sized bank with the bill-of-materials difference.
+
+    A bank's units are those listed under its 'units' key (an existing bank), else the ones 'size' selects.
+
+    Example: bankbuild rerate line3.yaml --voltage-v 415 --frequency-hz 50 --out moved
+    """
+    from bankbuild.cli.rerate import run_rerate, transformer_option
+
+    site = transformer_option(transformer_kva, transformer_z_pct, source_sc_mva)
+    typer.echo(run_rerate(spec, voltage_v, frequency_hz, out, json, catalogs, site))
+
+
+@catalog_app.command("check")
+def catalog_check(folder: Annotated[Path | None, typer.Argument(help="Folder of tables (default: built-in).")]
+                  = None) -> None:
+    """Validate every rating table in FOLDER and print its file name and SHA-256.
+
+    Example: bankbuild catalog check my-tables
+    """
+    from bankbuild.tables.load import builtin_dir, check_catalogs
+
+    folder = folder or builtin_dir()
+    for info in check_catalogs(folder):
+        typer.echo(f"ok  {info.file_name:<28} sha256 {info.sha256[:16]}…")
+
+
+@catalog_app.command("copy")
+def catalog_copy(folder: Annotated[Path, typer.Argument(help="Folder to copy the built-in tables into.")]) -> None:
+    """Copy the built-in rating tables into FOLDER so you can edit them.
+
+    Example: bankbuild catalog copy my-tables
+    """
+    from bankbuild.tables.load import copy_catalogs
+
+    for path in copy_catalogs(folder):
+        typer.echo(f"wrote {path}")
+    typer.echo(f"point a spec at it with 'catalogs: {folder}' or use --catalogs {folder}")
+
+
+def _dumps(data) -> str:
+    import json as _json
+
+    return _json.dumps(data, indent=2, ensure_ascii=False)
+
+
+def _one_line(message: str, limit: int = 600) -> str:
+    """An error message made safe to print: control characters escaped, one line, bounded length.
+
+    The message may quote a file name or a value from a hostile file; it must not move the cursor, recolour
+    the terminal or spill over many lines.
+
+    >>> _one_line("spec.yaml: name: bad\\x1b[31m\\nnext")
+    'spec.yaml: name: bad\\\\x1b[31m\\\\nnext'
+    """
+    import unicodedata
+
+    out = "".join(char if char == " " or unicodedata.category(char)[0] not in "CZ" or char == "\u00a0"
+                  else char.encode("unicode_escape").decode("ascii") for char in message)
+    return out if len(out) <= limit else out[: limit - 1] + "…"
+
+
+def run(argv: list[str] | None = None) -> int:
+    """Run the app and turn every expected failure into one line on stderr and exit code 2."""
+    from typer.exceptions import Abort, TyperException
+
+    command = typer.main.get_command(app)
+    try:
+        code = command.main(args=argv, prog_name="bankbuild", standalone_mode=False)
+    except BankbuildError as exc:
+        typer.echo(f"bankbuild: error: {_one_line(exc.line())}", err=True)
+        return 2
+    except TyperException as exc:  # usage errors of the command line (bad option, missing argument, …)
+        ctx = getattr(exc, "ctx", None)
+        if type(exc).__name__ == "NoArgsIsHelpError" and ctx is not None:
+            typer.echo(ctx.get_help())
+            return 0
+        sub = ctx.command_path if ctx is not None else "bankbuild"
+        typer.echo(f"bankbuild: error: {_one_line(exc.format_message())} (see '{sub} --help')", err=True)
+        return getattr(exc, "exit_code", 2)
+    except Abort:
+        typer.echo("bankbuild: stopped", err=True)
+        return 1
+    return code if isinstance(code, int) else 0
+
+
+def main() -> None:
+    """Console-script entry point."""
+    sys.exit(run())

@@ -1,0 +1,299 @@
+"""The pipeline: a validated spec and loaded tables in, frozen results out. No I/O here."""
+
+from __future__ import annotations
+
+from bankbuild._version import __version__
+from bankbuild.calc import capacitor as cap
+from bankbuild.calc import detuning as det
+from bankbuild.calc import power as pw
+from bankbuild.calc import system as sysc
+from bankbuild.design.assembly import assemble_bank
+from bankbuild.design.assembly import step_targets as planned_targets
+from bankbuild.design.bom import project_bom
+from bankbuild.design.checks import system_figures
+from bankbuild.design.existing import resolve_units
+from bankbuild.design.protection import CircuitContext, size_circuit
+from bankbuild.design.rules import CAUTIONS, discharge_for, rule_basis
+from bankbuild.design.select import build_step, pick_unit_voltage, unit_voltages
+from bankbuild.errors import SpecError
+from bankbuild.results.sizing import (
+    BankResult,
+    Check,
+    Detuning,
+    Main,
+    NeedSummary,
+    ProjectResult,
+    Provenance,
+    ResonancePoint,
+    Step,
+    TableUsed,
+    UnitLine,
+)
+from bankbuild.spec.model import Bank, Need, Spec
+
+HARMONICS = (5, 7, 11, 13)
+
+
+def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "",
+                 on_bank=None) -> ProjectResult:
+    """Size every bank of ``spec`` against ``catalogs``; raises SpecError only for spec/table mismatches.
+
+    ``on_bank(done, total, name)``, if given, is called after each bank (a progress bar; no I/O here).
+    """
+    banks = []
+    for i, bank in enumerate(spec.banks):
+        banks.append(size_bank(bank, i, spec, catalogs, spec_path))
+        if on_bank is not None:
+            on_bank(i + 1, len(spec.banks), bank.name)
+    basis = rule_basis(spec.rules, spec.nec_edition)
+    prov = Provenance(
+        version=__version__, rules=spec.rules, edition=basis.edition, spec_file=spec_path,
+        spec_sha256=spec_sha256,
+        tables=[TableUsed(file_name=t.file_name, sha256=t.sha256, notes=list(t.notes)) for t in catalogs.tables])
+    return ProjectResult(project=spec.project.model_dump(), provenance=prov, banks=banks, cautions=list(CAUTIONS),
+                         bom=project_bom(banks))
+
+
+def need_summary(need: Need, voltage_v: float) -> NeedSummary:
+    """Work the need out to kvar at the supply, keeping P and Q where the form gives them."""
+    form = need.form
+    if form == "kvar":
+        return NeedSummary(form="kvar", active_kw=None, reactive_kvar=None, pf_present=None, pf_target=None,
+                           pf_corrected=None, required_kvar=need.kvar)
+    if form == "power":
+        q = pw.reactive_kvar(need.kw, need.pf_present)
+        return NeedSummary(form="power", active_kw=need.kw, reactive_kvar=q, pf_present=need.pf_present,
+                           pf_target=need.pf_target, pf_corrected=None,
+                           required_kvar=pw.required_kvar(need.kw, need.pf_present, need.pf_target))
+    p_total = q_total = 0.0
+    for load in need.loads:
+        p, q = load_pq(load, voltage_v)
+        p_total += p * load.quantity
+        q_total += q * load.quantity
+    return NeedSummary(form="loads", active_kw=p_total, reactive_kvar=q_total,
+                       pf_present=pw.power_factor(p_total, q_total), pf_target=need.pf_target, pf_corrected=None,
+                       required_kvar=pw.correction_kvar(p_total, q_total, need.pf_target))
+
+
+def load_pq(load, voltage_v: float) -> tuple[float, float]:
+    """Active and reactive power [kW, kvar] drawn by one load of a load list."""
+    form = load.form
+    if form == "motor_kw":
+        p = pw.motor_input_kw(load.output_kw, load.efficiency)
+    elif form == "motor_hp":
+        p = pw.motor_input_kw(pw.hp_to_kw(load.output_hp), load.efficiency)
+    elif form == "input_kw":
+        p = load.input_kw
+    else:
+        kva = load.kva if form == "kva" else pw.three_phase_kva(voltage_v, load.line_current_a)
+        p = kva * load.pf
+    return p, pw.reactive_kvar(p, load.pf)
+
+
+def step_targets(bank: Bank, required_kvar: float, units=(), factor: float = 1.0) -> list[float]:
+    """kvar each step must deliver at the supply: explicit sizes, one fixed step, or the step plan that
+    :func:`bankbuild.design.assembly.step_targets` proposes from ``units`` (each delivering rated × ``factor``)."""
+    return planned_targets(bank, required_kvar, units, factor)
+
+
+def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> BankResult:
+    """Size one bank: units per step, protection per step and main, discharge and system checks."""
+    field = f"banks[{index}] ({bank.name})"
+    supply = bank.supply
+    v_s, f_s = supply.voltage_v, supply.frequency_hz
+    p = bank.tuning_factor
+    checks: list[Check] = []
+    need = need_summary(bank.need, v_s)
+    required = need.required_kvar
+    if required <= 1e-9 and not isinstance(bank.steps, list) and bank.units is None:
+        raise SpecError(where, f"{field}.need",
+                        f"the present power factor ({need.pf_present:.3f}) already meets the target "
+                        f"({need.pf_target}): nothing to correct; give explicit steps to size a bank anyway")
+
+    units_all = catalogs.capacitor_units
+    given = resolve_units(bank, units_all, where, field) if bank.units is not None else None
+    freqs = sorted({u.rated_frequency_hz for u in units_all}, key=lambda f: (abs(f - f_s), f))
+    f_r = given.rated_frequency_hz if given else freqs[0]
+    if f_r != f_s and given is None:
+        checks.append(Check(name="Unit frequency", ok=False, rule="unit rating table",
+                            detail=f"no units rated for {f_s:g} Hz; {f_r:g} Hz units used and re-rated"))
+    available = unit_voltages(units_all, f_r)
+    v_cap_needed = det.capacitor_voltage_v(v_s, p) if p else v_s
+    v_wanted = v_cap_needed * (1 + bank.voltage_margin_pct / 100)
+    if given is not None:
+        v_r = given.rated_voltage_v
+    elif bank.capacitor_voltage_v is not None:
+        if bank.capacitor_voltage_v not in available:
+            shown = ", ".join(f"{v:g}" for v in available)
+            raise SpecError(where, f"{field}.capacitor_voltage_v",
+                            f"no {f_r:g} Hz unit rated {bank.capacitor_voltage_v:g} V in the unit table "
+                            f"(available: {shown} V)")
+        v_r = bank.capacitor_voltage_v
+    else:
+        v_r = pick_unit_voltage(available, v_wanted) or max(available)
+    voltage_ok = v_r >= v_cap_needed - 1e-9
+    checks.append(Check(
+        name="Unit voltage covers the supply" + (" and detuning rise" if p else ""), ok=voltage_ok,
+        rule="IEEE 18 / IEC 60831-1: continuous ≤ 110% of rated voltage" if voltage_ok else
+        "unit rated voltage must not be below the voltage the capacitor sees",
+        detail=(f"capacitor sees {v_cap_needed:.0f} V" + (f" (= {v_s:g} V / (1 − {p:g}))" if p else "")
+                + f"; units rated {v_r:g} V")))
+    if bank.voltage_margin_pct > 0 and v_r < v_wanted - 1e-9:
+        checks.append(Check(
+            name="Unit voltage margin", ok=False, rule="spec: voltage_margin_pct",
+            detail=f"wanted units rated ≥ {v_wanted:.0f} V ({v_cap_needed:.0f} V + {bank.voltage_margin_pct:g}%); "
+                   f"units rated {v_r:g} V" + ("" if v_r < max(available) else ", the highest in the unit table")))
+
+    units = [u for u in units_all if u.rated_voltage_v == v_r and u.rated_frequency_hz == f_r]
+    at_supply = cap.rerate_kvar(1.0, v_r, f_r, v_s, f_s)
+    factor = det.detuned_kvar(at_supply, p) if p else at_supply
+
+    steps = []
+    if given is not None:
+        for k in range(len(given.steps)):
+            choice = given.choice(k, factor)
+            steps.append(_size_step(k + 1, choice.delivered_kvar, units, factor, bank, v_s, f_s, v_r, f_r, p,
+                                    choice))
+    else:
+        for k, target in enumerate(step_targets(bank, required, units, factor), start=1):
+            steps.append(_size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p))
+    delivered = sum(s.kvar for s in steps)
+    rated_kvar = sum(s.rated_kvar for s in steps)
+    if need.active_kw is not None:
+        q_after = need.reactive_kvar
+        need = need.model_copy(update={"pf_corrected": pw.corrected_power_factor(need.active_kw, q_after,
+                                                                                 delivered)})
+        if pw.is_leading(q_after, delivered):
+            checks.append(Check(name="Over-correction", ok=False, rule="leading power factor",
+                                detail=f"{delivered:.1f} kvar exceeds the load's {q_after:.1f} kvar: leading PF"))
+    checks.append(Check(name="Delivered covers the need", ok=delivered >= required - 1e-6, rule="design",
+                        detail=f"delivered {delivered:.1f} kvar at {v_s:g} V, {f_s:g} Hz; need {required:.1f} kvar"))
+
+    ctx = circuit_context(spec, bank, catalogs, where, field)
+    floor_a, floor_text = 0.0, ""
+    if bank.motor is not None:  # NEC 460.8(A): also ≥ 1/3 of the motor circuit conductor's ampacity
+        floor_a = bank.motor.conductor_ampacity_a / 3
+        floor_text = f"motor conductor {bank.motor.conductor_ampacity_a:g} A / 3 (NEC 460.8(A))"
+    sized = []
+    for step in steps:
+        basis_a = max(step.rated_current_a, step.line_current_a)
+        circuit = size_circuit(ctx, f"Step {step.index}", basis_a, _basis_text(step.rated_current_a,
+                                                                                step.line_current_a), False,
+                               floor_a, floor_text)
+        checks.extend(circuit.checks)
+        sized.append(step.model_copy(update={
+            "device": ctx.device, "device_rating_a": circuit.device.value if circuit.device else 0.0,
+            "conductor": circuit.conductor.designation if circuit.conductor else "none",
+            "conductor_ampacity_a": circuit.conductor.ampacity_a if circuit.conductor else 0.0,
+            "sizing": circuit.lines}))
+    rated_current = cap.line_current_a(rated_kvar, v_r)
+    line_current = cap.line_current_a(delivered, v_s)
+    main_basis = max(rated_current, line_current)
+    main_c = size_circuit(ctx, "Main", main_basis, _basis_text(rated_current, line_current), True,
+                          floor_a, floor_text)
+    checks.extend(main_c.checks)
+    main = Main(rated_current_a=rated_current, design_current_a=main_basis, device=ctx.device,
+                conductor=main_c.conductor.designation if main_c.conductor else "none",
+                conductor_ampacity_a=main_c.conductor.ampacity_a if main_c.conductor else 0.0,
+                device_rating_a=main_c.device.value if main_c.device else 0.0,
+                disconnect_rating_a=main_c.disconnect.value if main_c.disconnect else 0.0, sizing=main_c.lines)
+
+    largest = max(sized, key=lambda s: s.capacitance_uf_per_leg)
+    discharge = discharge_for(spec.rules, bank, largest, units, v_r)
+    checks.append(Check(name="Discharge", ok=discharge.ok, rule=discharge.rule,
+                        detail=(f"≤ {discharge.limit_v:g} V within {discharge.time_s:g} s needs R ≤ "
+                                f"{discharge.max_resistance_ohm:,.0f} Ω per leg; built-in resistors reach it in "
+                                f"{discharge.builtin_time_s:.0f} s")))
+
+    resonance, rise = _system(bank, sized, checks, p)
+    system, system_checks = system_figures(
+        bank, sized, rules=spec.rules, v_r=v_r, f_r=f_r, rise_pct=rise, unit_rows=units, factor=factor,
+        available_v=available, rated_current_a=rated_current, main_conductor_ampacity_a=main.conductor_ampacity_a,
+        main_conductor=main.conductor, ctx=ctx)
+    checks.extend(system_checks)
+    result = BankResult(
+        name=bank.name, rules=spec.rules, connection=bank.connection, supply_voltage_v=v_s, frequency_hz=f_s,
+        transformer_kva=supply.transformer_kva, transformer_z_pct=supply.transformer_z_pct, need=need,
+        required_kvar=required, delivered_kvar=delivered, capacitor_voltage_v=v_r, rated_kvar=rated_kvar,
+        rated_current_a=rated_current, line_current_a=line_current,
+        capacitance_uf_per_phase=cap.capacitance_uf_per_leg(rated_kvar, v_r, f_r, bank.connection),
+        detuning_pct=bank.detuning_pct, steps=sized, main=main, discharge=discharge, resonance=resonance,
+        voltage_rise_pct=rise, checks=checks, system=system)
+    return assemble_bank(result, bank, catalogs, ctx, units)
+
+
+def _basis_text(rated_a: float, line_a: float) -> str:
+    return "rated current" if rated_a >= line_a else "operating current, above rated"
+
+
+def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p, choice=None) -> Step:
+    choice = choice or build_step(units, target, factor)
+    lines = [UnitLine(id=u.unit_id, qty=c, rated_kvar=u.rated_kvar, rated_voltage_v=u.rated_voltage_v,
+                      rated_frequency_hz=u.rated_frequency_hz, delivered_kvar_each=u.rated_kvar * factor,
+                      table=u.table, row=u.row) for u, c in zip(choice.units, choice.counts, strict=True)]
+    detuning = None
+    if p:
+        at_supply = cap.rerate_kvar(choice.rated_kvar, v_r, f_r, v_s, f_s)
+        detuning = Detuning(
+            tuning_pct=bank.detuning_pct, tuning_frequency_hz=det.tuning_frequency_hz(f_s, p),
+            tuning_order=det.tuning_order(p), capacitor_voltage_v=det.capacitor_voltage_v(v_s, p),
+            capacitor_kvar_at_supply=at_supply,
+            reactor_inductance_mh=det.reactor_inductance_mh(at_supply, v_s, f_s, p),
+            reactor_current_a=det.reactor_current_a(choice.delivered_kvar, v_s))
+    return Step(index=k, target_kvar=target, kvar=choice.delivered_kvar, rated_kvar=choice.rated_kvar,
+                rated_current_a=cap.line_current_a(choice.rated_kvar, v_r),
+                line_current_a=cap.line_current_a(choice.delivered_kvar, v_s),
+                capacitance_uf_per_leg=cap.capacitance_uf_per_leg(choice.rated_kvar, v_r, f_r, bank.connection),
+                units=lines, device="", device_rating_a=0.0, conductor="", conductor_ampacity_a=0.0, sizing=[],
+                detuning=detuning)
+
+
+def _system(bank: Bank, steps, checks: list[Check], p: float):
+    supply = bank.supply
+    if not supply.has_transformer:
+        return [], None
+    s_sc = sysc.short_circuit_mva(supply.transformer_kva, supply.transformer_z_pct, supply.source_sc_mva)
+    points = []
+    total = 0.0
+    for step in steps:
+        total += step.kvar
+        h = sysc.resonance_order(s_sc, total)
+        near = None if p else sysc.near_harmonic(h, HARMONICS)
+        points.append(ResonancePoint(steps=list(range(1, step.index + 1)), kvar=total, harmonic_order=h,
+                                     near_harmonic=near))
+    # the resonance check (every step combination, detuned or not) is in system_checks
+    rise = sysc.voltage_rise_pct(total, supply.transformer_kva, supply.transformer_z_pct)
+    checks.append(Check(name="Voltage rise at light load", ok=rise <= 3.0, rule="ΔV% ≈ Q·Z%/kVA",
+                        detail=f"{rise:.2f}% with all {total:.0f} kvar on (flag above 3%, common practice)"))
+    return points, rise
+
+
+def circuit_context(spec: Spec, bank: Bank, catalogs, where: str, field: str) -> CircuitContext:
+    """Gather factors and the table rows the sizing uses for this bank's rule basis."""
+    prot = bank.protection
+    rules = spec.rules
+    if rules == "nec":
+        rows = tuple(r for r in catalogs.conductors_nec if r.edition == spec.nec_edition)
+        attr = f"ampacity_{prot.conductor_temp_c}c_a"
+        label = f"Cu {prot.conductor_temp_c} °C, NEC Table 310.16 ({spec.nec_edition})"
+        if not rows:
+            raise SpecError(where, "nec_edition", f"no {spec.nec_edition} rows in the NEC conductor table")
+    else:
+        rows = tuple(r for r in catalogs.conductors_iec
+                     if r.insulation == prot.insulation and r.method == prot.installation_method)
+        attr = "ampacity_a"
+        label = f"Cu {prot.insulation}, method {prot.installation_method}, IEC 60364-5-52"
+        if not rows:
+            have = sorted({f"{r.insulation}/{r.method}" for r in catalogs.conductors_iec})
+            raise SpecError(where, f"{field}.protection",
+                            f"no IEC conductor rows for {prot.insulation}, method {prot.installation_method} "
+                            f"(the table has {', '.join(have)})")
+    return CircuitContext(
+        rules=rules, device=prot.device, conductor_factor=prot.conductor_factor,
+        device_factor=prot.effective_device_factor(), disconnect_factor=prot.disconnect_factor,
+        conductor_rows=rows, ampacity_attr=attr, conductor_label=label,
+        device_rows=tuple(r for r in catalogs.device_ratings if r.basis == rules and r.device == prot.device),
+        frame_rows=tuple(r for r in catalogs.breaker_frames if r.basis == rules),
+        disconnect_rows=tuple(r for r in catalogs.disconnect_ratings if r.basis == rules),
+        max_sets=prot.max_parallel_sets)
+

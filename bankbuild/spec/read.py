@@ -1,0 +1,306 @@
+"""Reading a spec file: safe YAML, size and depth limits, and one-line errors that name file and field."""
+
+from __future__ import annotations
+
+import functools
+import hashlib
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from bankbuild.errors import SpecError
+
+MAX_SPEC_BYTES = 4 * 1024 * 1024
+MAX_DEPTH = 40
+MAX_NODES = 200_000
+
+
+@dataclass(frozen=True)
+class SpecFile:
+    """A validated spec with the file it came from and that file's SHA-256."""
+
+    spec: Any  # bankbuild.spec.model.Spec
+    path: str
+    sha256: str
+    base_dir: Path
+
+
+def read_spec(path: str | Path) -> SpecFile:
+    """Read, parse and validate a spec file; every problem is a :class:`SpecError`."""
+    where = str(path)
+    raw = _read_bytes(Path(path), where)
+    data = parse_yaml(raw, where)
+    spec = validate_spec(data, where)
+    return SpecFile(spec=spec, path=where, sha256=hashlib.sha256(raw).hexdigest(),
+                    base_dir=Path(path).resolve().parent)
+
+
+def _read_bytes(path: Path, where: str) -> bytes:
+    try:
+        if not path.exists():
+            raise SpecError(where, "", "no such file")
+        if path.is_dir():
+            raise SpecError(where, "", "is a folder, not a spec file")
+        if not path.is_file():
+            raise SpecError(where, "", "is not a regular file (a device, pipe or socket); give a YAML file")
+        size = path.stat().st_size
+        if size > MAX_SPEC_BYTES:
+            raise SpecError(where, "", f"file is {size:,} bytes; a spec may be at most {MAX_SPEC_BYTES:,} bytes")
+        with path.open("rb") as handle:  # read at most one byte past the limit, whatever stat said
+            raw = handle.read(MAX_SPEC_BYTES + 1)
+    except OSError as exc:
+        raise SpecError(where, "", f"cannot read the file ({exc.strerror or exc})") from None
+    except ValueError as exc:  # a path with a NUL byte in it
+        raise SpecError(where, "", f"not a usable file name ({exc})") from None
+    if len(raw) > MAX_SPEC_BYTES:
+        raise SpecError(where, "", f"file is over {MAX_SPEC_BYTES:,} bytes, the most a spec may be")
+    if raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise SpecError(where, "", "is UTF-16 text (an editor's 'Unicode' setting); save it as UTF-8")
+    if b"\x00" in raw:
+        raise SpecError(where, "", "is a binary file, not YAML text")
+    return raw
+
+
+@functools.lru_cache(maxsize=1)
+def _yaml_loader():
+    """The safe loader (its C build, libyaml, where installed: same rules, many times faster), adapted.
+
+    Dates stay text (a date in a spec is a title-block field, and ``2026-13-45`` must not crash the
+    reader), and a number too long to convert is a YAML error with its line, not a crash.
+    """
+    import yaml
+
+    base = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+    class SpecLoader(base):  # type: ignore[misc, valid-type]
+        pass
+
+    stamp = "tag:yaml.org,2002:timestamp"
+    SpecLoader.yaml_implicit_resolvers = {
+        first: [(tag, rx) for tag, rx in resolvers if tag != stamp]
+        for first, resolvers in base.yaml_implicit_resolvers.items()}
+
+    def construct_int(loader, node):
+        try:
+            return base.construct_yaml_int(loader, node)
+        except ValueError:
+            raise yaml.constructor.ConstructorError(
+                None, None, f"a number of {len(node.value):,} characters is too long", node.start_mark) from None
+
+    SpecLoader.add_constructor("tag:yaml.org,2002:int", construct_int)
+    return SpecLoader
+
+
+def _yaml_problem(exc: Exception, where: str) -> SpecError:
+    mark = getattr(exc, "problem_mark", None)
+    at = f"line {mark.line + 1}, column {mark.column + 1}" if mark else ""
+    problem = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+    return SpecError(where, at, f"not valid YAML ({problem})")
+
+
+def parse_yaml(raw: bytes, where: str) -> Any:
+    """Parse YAML text safely: no object construction, aliases refused, depth and size bounded.
+
+    The event stream is scanned first (no objects built, stopped at the first problem), so that alias
+    bombs, deep nesting and huge documents are refused in a fraction of a second; only then is the text
+    loaded with the safe loader, which builds plain mappings, lists, text and numbers only.
+    """
+    import yaml
+
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        raise SpecError(where, f"line {line}", f"is not UTF-8 text (byte {exc.start}); save it as UTF-8") from None
+    try:
+        nodes = _scan_events(text, where)
+    except yaml.YAMLError as exc:
+        raise _yaml_problem(exc, where) from None
+    if nodes == 0:
+        raise SpecError(where, "", "the file is empty: a spec needs at least 'banks'")
+    try:
+        data = yaml.load(text, Loader=_yaml_loader())  # noqa: S506 - a safe loader, events checked above
+    except yaml.YAMLError as exc:
+        raise _yaml_problem(exc, where) from None
+    except (ValueError, OverflowError) as exc:  # e.g. a 5,000-digit number or a date like 2026-13-45
+        shown = str(exc).split(":")[0][:80]
+        raise SpecError(where, "", f"a value cannot be read ({shown})") from None
+    if not isinstance(data, dict):
+        raise SpecError(where, "", f"the top level must be a mapping of keys, not {type(data).__name__}")
+    _check_text(data, where)
+    return data
+
+
+# Bidirectional overrides and isolates can make text on a document read differently from what it holds.
+_BIDI = frozenset("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
+
+
+def _bad_char(text: str) -> str | None:
+    """The first control or direction-override character in ``text`` (as ``U+001B``), or None."""
+    import unicodedata
+
+    for char in text:
+        if char in _BIDI or unicodedata.category(char) == "Cc":
+            return f"U+{ord(char):04X}"
+    return None
+
+
+def _check_text(data: Any, where: str) -> None:
+    """Refuse keys that are not text, and control characters in any key or text value.
+
+    A spec's text ends up on a terminal and in documents: an escape sequence could rewrite the terminal,
+    and a direction override could make a printed name read differently from what it is.
+    """
+    stack: list[tuple[Any, tuple]] = [(data, ())]
+    while stack:
+        node, loc = stack.pop()
+        if isinstance(node, dict):
+            for key, value in node.items():
+                if not isinstance(key, str):
+                    raise SpecError(where, field_path(loc, data) if loc else "",
+                                    f"key {key!r} is not a name; keys are words like voltage_v")
+                bad = _bad_char(key)
+                if bad:
+                    raise SpecError(where, field_path(loc, data) if loc else "",
+                                    f"a key holds the control character {bad}; keys are words like voltage_v")
+                stack.append((value, (*loc, key)))
+        elif isinstance(node, list):
+            stack.extend((item, (*loc, i)) for i, item in enumerate(node))
+        elif isinstance(node, str):
+            bad = _bad_char(node)
+            if bad:
+                raise SpecError(where, field_path(loc, data),
+                                f"text holds the control character {bad}; use printable characters only")
+
+
+def _scan_events(text: str, where: str) -> int:
+    """Walk the YAML events without building anything; return the number of nodes.
+
+    Refuses aliases (no expansion bombs), nesting deeper than :data:`MAX_DEPTH`, more than :data:`MAX_NODES`
+    nodes, keys that are not plain scalars, and a key given twice in one mapping (YAML would silently keep
+    the last one, so a typo'd duplicate would hide the first value).
+    """
+    import yaml
+
+    frames: list[list] = []  # per open collection: [is_mapping, expecting_key, keys seen]
+    nodes = 0
+
+    def line_of(event) -> str:
+        return f"line {event.start_mark.line + 1}"
+
+    def finished() -> None:  # a whole node (scalar or collection) is complete at the current level
+        if frames and frames[-1][0]:
+            frames[-1][1] = not frames[-1][1]
+
+    for event in yaml.parse(text, Loader=_yaml_loader()):
+        if isinstance(event, yaml.AliasEvent):
+            raise SpecError(where, line_of(event), "YAML aliases (*name) are not accepted in a spec")
+        if isinstance(event, (yaml.ScalarEvent, yaml.MappingStartEvent, yaml.SequenceStartEvent)):
+            nodes += 1
+            if nodes > MAX_NODES:
+                raise SpecError(where, line_of(event), f"the document has more than {MAX_NODES:,} entries")
+            is_key = bool(frames) and frames[-1][0] and frames[-1][1]
+            if isinstance(event, yaml.ScalarEvent):
+                if is_key:
+                    if event.value in frames[-1][2]:
+                        shown = event.value if len(event.value) <= 40 else event.value[:37] + "..."
+                        raise SpecError(where, line_of(event), f"key {shown!r} appears twice in the same mapping")
+                    frames[-1][2].add(event.value)
+                finished()
+                continue
+            if is_key:
+                raise SpecError(where, line_of(event), "a key must be a plain word, not a list or mapping")
+            if len(frames) >= MAX_DEPTH:
+                raise SpecError(where, line_of(event), f"nested more than {MAX_DEPTH} levels deep")
+            frames.append([isinstance(event, yaml.MappingStartEvent), True, set()])
+        elif isinstance(event, (yaml.MappingEndEvent, yaml.SequenceEndEvent)):
+            frames.pop()
+            finished()
+    return nodes
+
+
+def validate_spec(data: dict, where: str) -> Any:
+    """Validate a parsed spec mapping; the first problem becomes one line naming the field."""
+    from pydantic import ValidationError
+
+    from bankbuild.spec.model import Spec
+
+    try:
+        return Spec.model_validate(data)
+    except ValidationError as exc:
+        errors = exc.errors(include_url=False)
+        # An unknown key first: a misspelt required key is also reported missing, and the spelling is the cause.
+        first = min(errors, key=lambda e: e.get("type") != "extra_forbidden")
+        field = field_path(first["loc"], data)
+        more = f" (and {len(errors) - 1} more problem{'s' if len(errors) > 2 else ''})" if len(errors) > 1 else ""
+        raise SpecError(where, field, _message(first) + _did_you_mean(first, errors) + more) from None
+
+
+def _did_you_mean(error: dict, errors: list[dict]) -> str:
+    """For an unknown key, the closest required key missing beside it (``frequncy_hz`` -> ``frequency_hz``)."""
+    import difflib
+
+    loc = error["loc"]
+    if error.get("type") != "extra_forbidden" or not loc or not isinstance(loc[-1], str):
+        return ""
+    missing = [e["loc"][-1] for e in errors if e.get("type") == "missing" and e["loc"][:-1] == loc[:-1]]
+    close = difflib.get_close_matches(loc[-1], [m for m in missing if isinstance(m, str)], n=1, cutoff=0.6)
+    return f"; did you mean {close[0]!r}?" if close else ""
+
+
+def field_path(loc: tuple, data: Any = None) -> str:
+    """Turn a pydantic location into ``banks[0].supply.voltage_v``, with the bank's name where known."""
+    out = ""
+    node = data
+    for part in loc:
+        if isinstance(part, int):
+            label = f"[{part}]"
+            if isinstance(node, list) and part < len(node) and isinstance(node[part], dict):
+                name = node[part].get("name")
+                if isinstance(name, str) and name.strip() and out.endswith("banks") and not _bad_char(name):
+                    label = f"[{part}] ({name[:40]})"
+            out += label
+            node = node[part] if isinstance(node, list) and part < len(node) else None
+        elif isinstance(part, str) and part and not part[0].isupper() and "[" not in part:
+            out += ("." if out else "") + part
+            node = node.get(part) if isinstance(node, dict) else None
+    return out or "(top level)"
+
+
+def _message(error: dict) -> str:
+    kind = error.get("type", "")
+    msg = error.get("msg", "invalid value")
+    value = error.get("input")
+    if kind == "extra_forbidden":
+        return "unknown key (check the spelling; see the spec reference in the README)"
+    if kind == "missing":
+        return "required key is missing"
+    if msg.startswith("Value error, "):
+        msg = msg[len("Value error, "):]
+    if kind in ("finite_number",):
+        return "must be a finite number (not NaN or infinity)"
+    shown = repr(value)
+    if len(shown) > 40:
+        shown = shown[:37] + "..."
+    if kind in ("too_long", "string_too_long") and isinstance(value, str):
+        limit = (error.get("ctx") or {}).get("max_length", "?")
+        return f"text of {len(value):,} characters; at most {limit} are allowed"
+    if kind in ("too_short", "too_long"):  # "List should have at least 1 item after validation, not 0"
+        return f"{msg[0].lower()}{msg[1:]}".replace(" after validation, not ", " (got ") + ")"
+    if kind in ("float_type", "int_type") and isinstance(value, str) and _is_number(value):
+        hint = ("YAML reads this exponent form as text: write the number out, or with a point and a signed "
+                "exponent like 1.0e+3" if "e" in value.lower()
+                else "a number in quotes is text; write it without quotes")
+        return f"{msg[0].lower()}{msg[1:]} (got {shown}: {hint})"
+    if kind.endswith("_type") or kind.startswith(("greater", "less", "literal", "int_", "float_")):
+        return f"{msg[0].lower()}{msg[1:]} (got {shown})"
+    return msg
+
+
+def _is_number(text: str) -> bool:
+    """Whether ``text`` reads as a number (YAML 1.1 reads ``1e3`` as text: it wants ``1.0e+3``)."""
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True

@@ -1,0 +1,209 @@
+"""The row types of every rating table: plain frozen dataclasses, so that callers never need pandas.
+
+Each row keeps the file name (``table``) and line (``row``) it came from, so that a pick can name its source.
+The declared schemas are in :mod:`bankbuild.tables.registry`; the CSV files in ``bankbuild/tables/data/``,
+each stating its source, or "from memory", in its ``#`` notes.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class CapacitorUnit:
+    """A three-phase capacitor unit: nameplate kvar at its rated voltage and frequency."""
+
+    unit_id: str
+    rated_kvar: float
+    rated_voltage_v: float
+    rated_frequency_hz: float
+    connection: str
+    discharge_voltage_v: float
+    discharge_time_s: float
+    losses_w_per_kvar: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class DeviceRating:
+    """A standard ampere rating of a fuse or breaker under one rule basis."""
+
+    basis: str
+    device: str
+    rating_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class BreakerFrame:
+    """A breaker frame size (largest trip rating the frame accepts)."""
+
+    basis: str
+    frame_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class DisconnectRating:
+    """An ampere rating of a disconnecting means (switch)."""
+
+    basis: str
+    rating_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class NecConductor:
+    """A copper conductor size with its NEC Table 310.16 ampacities for one code edition."""
+
+    edition: int
+    size: str
+    area_mm2: float
+    ampacity_60c_a: float
+    ampacity_75c_a: float
+    ampacity_90c_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class IecConductor:
+    """A copper cross-section with its IEC 60364-5-52 current-carrying capacity for one installation."""
+
+    insulation: str
+    method: str
+    area_mm2: float
+    ampacity_a: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class Reactor:
+    """A three-phase detuning reactor for one step: tuning factor, system voltage and step output."""
+
+    reactor_id: str
+    frequency_hz: float
+    tuning_pct: float
+    voltage_v: float
+    step_kvar: float
+    inductance_mh: float
+    current_a: float
+    losses_w: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class Contactor:
+    """A capacitor-duty contactor rating at one voltage; ``damping`` names pre-insertion resistors."""
+
+    contactor_id: str
+    damping: str
+    voltage_v: float
+    max_kvar: float
+    max_peak_a: float
+    coil_sealed_va: float
+    coil_inrush_va: float
+    losses_w: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class Controller:
+    """A power-factor controller: step outputs, measuring sensitivity and reconnection-delay range."""
+
+    controller_id: str
+    outputs: int
+    min_current_a: float
+    ct_input_va: float
+    max_reconnect_delay_s: float
+    supply_va: float
+    losses_w: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class CurrentTransformer:
+    """A measuring current transformer: ratio, rated burden and accuracy class."""
+
+    ct_id: str
+    secondary_a: float
+    primary_a: float
+    burden_va: float
+    accuracy_class: str
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class ControlTransformer:
+    """A single-phase control power transformer."""
+
+    transformer_id: str
+    rating_va: float
+    losses_w: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class ControlFuse:
+    """A small fuse for control and measuring circuits."""
+
+    fuse_id: str
+    rating_a: float
+    losses_w: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class DeviceLoss:
+    """Power loss of one fuse-link or one breaker pole at rated current, up to ``max_rating_a``."""
+
+    device: str
+    max_rating_a: float
+    losses_w: float
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class Fan:
+    """An enclosure fan with its inlet filter and outlet grille; airflow with the filters fitted."""
+
+    fan_id: str
+    airflow_m3_per_h: float
+    power_w: float
+    description: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
+class Busbar:
+    """A copper busbar arrangement per phase and its continuous current rating."""
+
+    busbar_id: str
+    bars_per_phase: int
+    width_mm: float
+    thickness_mm: float
+    rating_a: float
+    description: str
+    table: str
+    row: int

@@ -1,0 +1,60 @@
+"""Start-up stays light: importing the CLI and asking for help load none of the heavy libraries.
+
+pandas, reportlab and openpyxl are imported inside the functions that need them (DEVELOPERS.md), so that
+``bankbuild --help`` answers at once. Each check runs in a fresh interpreter, since this test process has long
+imported them.
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+HEAVY = ("pandas", "reportlab", "openpyxl")
+SCRIPT = shutil.which("bankbuild", path=str(Path(sys.executable).parent))
+
+PROBE = """\
+import json, sys
+{body}
+print(json.dumps(sorted(m for m in sys.modules if m.split(".")[0] in {heavy!r})))
+"""
+
+
+def heavy_modules_after(body: str) -> list[str]:
+    code = PROBE.format(body=body, heavy=HEAVY)
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    return json.loads(proc.stdout.strip().splitlines()[-1])
+
+
+def test_import_cli_is_light():
+    assert heavy_modules_after("import bankbuild.cli.app") == []
+
+
+@pytest.mark.parametrize("argv", [["--help"], ["size", "--help"], ["kvar", "--help"], ["catalog", "--help"]],
+                         ids=" ".join)
+def test_help_is_light(argv):
+    body = f"from bankbuild.cli.app import run\nrun({argv!r})"
+    assert heavy_modules_after(body) == []
+
+
+def test_probe_can_see_a_heavy_import():
+    # The probe itself works: a heavy import is seen.
+    assert "pandas" in heavy_modules_after("import pandas")
+
+
+@pytest.mark.skipif(SCRIPT is None, reason="the bankbuild console script is not installed")
+def test_console_script_help_imports_no_heavy_library():
+    # -X importtime lists every module the interpreter imports, on stderr, one line each: "... | name".
+    proc = subprocess.run([sys.executable, "-X", "importtime", SCRIPT, "--help"], capture_output=True, text=True,
+                          timeout=120)
+    assert proc.returncode == 0
+    assert proc.stdout.startswith("Usage: bankbuild ")
+    imported = {line.rsplit("|", 1)[-1].strip().split(".")[0] for line in proc.stderr.splitlines() if "|" in line}
+    assert "bankbuild" in imported
+    assert imported.isdisjoint(HEAVY)
