@@ -110,6 +110,42 @@ def line_current_a(reactive_kvar: float, voltage_v: float) -> float:
     return 1000.0 * reactive_kvar / (math.sqrt(3.0) * voltage_v)
 
 
+def kvar_at_current(current_a: float, voltage_v: float) -> float:
+    """Three-phase capacitor kvar that a line current stands for at a voltage: the inverse of :func:`line_current_a`.
+
+    Parameters
+    ----------
+    current_a : float
+        Line current [A]
+    voltage_v : float
+        Line-to-line voltage [V]
+
+    Returns
+    -------
+    float
+        Reactive power [kvar]
+
+    Notes
+    -----
+    Q = √3 · V_LL · I_L / 1000. It gives the kvar a capacitor-duty (AC-6b) contactor may switch at a voltage from
+    its rated current there.
+
+    Examples
+    --------
+    >>> round(kvar_at_current(25.0, 400.0), 2)
+    17.32
+    >>> round(kvar_at_current(120.28, 480.0), 1)
+    100.0
+
+    References
+    ----------
+    .. [1] IEEE Std 18-2012, rated current of a three-phase unit (clause from memory).
+    """
+    _finite_nonneg("current_a", current_a)
+    _finite_pos("voltage_v", voltage_v)
+    return math.sqrt(3.0) * voltage_v * current_a / 1000.0
+
+
 def phase_current_a(line_current_a: float, connection: str) -> float:
     """Current in one leg (element) of a balanced bank.
 

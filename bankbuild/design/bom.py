@@ -96,9 +96,9 @@ def project_bom(banks: list[BankResult]) -> list[BomLine]:
     --------
     >>> from types import SimpleNamespace as B
     >>> a = B(name="A", bom=[BomLine(item=1, qty=2, unit="pcs", category="Control and measurement",
-    ...                              description="PFC-6", table="controllers.csv", row=9)])
+    ...                              description="CTL-6OUT", table="controllers.csv", row=9)])
     >>> b = B(name="B", bom=[BomLine(item=1, qty=1, unit="pcs", category="Control and measurement",
-    ...                              description="PFC-6", table="controllers.csv", row=9)])
+    ...                              description="CTL-6OUT", table="controllers.csv", row=9)])
     >>> [(x.qty, x.notes) for x in project_bom([a, b])]
     [(3.0, 'A: 2; B: 1')]
     """
@@ -182,9 +182,10 @@ def _switching_parts(step, catalogs) -> list[Part]:
     parts = []
     if sw.contactor is not None:
         row = _row(catalogs.contactors, sw.contactor.row)
-        parts.append(Part("Step switching", f"{row.contactor_id}: {row.description}; {row.max_kvar:g} kvar at "
-                                            f"{row.voltage_v:g} V", 1, table=row.table, row=row.row,
-                          where=[step.index]))
+        amps, volts = sw.contactor_current_a, sw.contactor_voltage_v
+        parts.append(Part("Step switching", f"{row.contactor_id}: {row.description}; AC-6b {amps:g} A at {volts:g} V: "
+                                            f"Q = √3 × {volts:g} V × {amps:g} A = {sw.contactor_kvar:.1f} kvar", 1,
+                          table=row.table, row=row.row, where=[step.index]))
     if sw.damping_reactor_uh:
         parts.append(Part("Step switching", f"Air-core inrush damping reactor, single-phase, ≥ "
                                             f"{sw.damping_reactor_uh:,.1f} µH, ≥ {sw.required_current_a:.0f} A rms",

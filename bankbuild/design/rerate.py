@@ -17,7 +17,6 @@ import re
 from collections import Counter
 
 from bankbuild._version import __version__
-from bankbuild.calc import capacitor as cap
 from bankbuild.design.rules import CAUTIONS, rule_basis
 from bankbuild.design.sizing import size_bank
 from bankbuild.errors import OptionError
@@ -158,7 +157,7 @@ def _contactor_fit(k: int, old, new, rows, voltage_v: float) -> ItemFit | None:
     name = old_sw.contactor.designation
     frames = [r for r in rows if r.contactor_id == name and r.voltage_v >= voltage_v - EPS]
     row = min(frames, key=lambda r: r.voltage_v) if frames else None
-    capacity = cap.line_current_a(row.max_kvar, row.voltage_v) if row is not None else 0.0
+    capacity = row.ac6b_current_a if row is not None else 0.0
     wanted = new_sw.contactor.designation if new_sw.contactor is not None else "none in the table"
     needs_damping = new_sw.damping_needed and old_sw.damping == "none"
     fits = row is not None and capacity >= new_sw.required_current_a - EPS and not needs_damping
@@ -270,7 +269,8 @@ def parts(result: BankResult, unit_rows) -> Counter:
 
 
 RATED_V = re.compile(r"rated ≥ (\d+(?:\.\d+)?) V")
-AT_SUPPLY = re.compile(r"; \d+(?:\.\d+)? kvar at \d+(?:\.\d+)? V$")  # a contactor frame's rating at the supply
+# a contactor frame's rating at the supply voltage, derived from its AC-6b current
+AT_SUPPLY = re.compile(r"; AC-6b \d+(?:\.\d+)? A at \d+(?:\.\d+)? V: Q = [^;]* kvar$")
 
 
 def bom_counter(result: BankResult) -> Counter:
@@ -283,12 +283,13 @@ def bom_counter(result: BankResult) -> Counter:
 
 def _voltage_free(key: tuple) -> tuple[tuple, float | None]:
     """A part's identity: its key without the "rated ≥ N V" (a part rated higher serves a lower voltage) and
-    without a trailing "; N kvar at V V" (what the same contactor frame switches at the supply), and N.
+    without a trailing "; AC-6b I A at V V: Q = … kvar" (what the same contactor frame switches at the supply), and N.
 
     >>> _voltage_free(("fuse", "Fuse-link 50 A, rated ≥ 480 V", "pcs", ""))
     (('fuse', 'Fuse-link 50 A, rated ≥ … V', 'pcs', ''), 480.0)
-    >>> _voltage_free(("contactor", "CCR-25: frame 25 kvar at 400 V; 30 kvar at 480 V", "pcs", ""))[0][1]
-    'CCR-25: frame 25 kvar at 400 V'
+    >>> text = "SWD-25A-DAMPED: frame 25 A at 400 V; AC-6b 20 A at 600 V: Q = √3 × 600 V × 20 A = 20.8 kvar"
+    >>> _voltage_free(("contactor", text, "pcs", ""))[0][1]
+    'SWD-25A-DAMPED: frame 25 A at 400 V'
     """
     category, description, unit, unit_id = key
     description = AT_SUPPLY.sub("", description)

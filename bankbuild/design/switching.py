@@ -111,8 +111,13 @@ def contactor_rows_at(rows: Sequence, voltage_v: float) -> list:
 
 
 def contactor_current_a(row) -> float:
-    """Capacitor-duty current of a contactor row: its kvar at its voltage as a three-phase current [A]."""
-    return cap.line_current_a(row.max_kvar, row.voltage_v)
+    """Capacitor-duty current of a contactor row: its AC-6b rated current at the row's voltage [A]."""
+    return row.ac6b_current_a
+
+
+def contactor_kvar(row) -> float:
+    """The kvar a contactor row may switch at its voltage, from its current: Q = √3 · U · I_e [kvar]."""
+    return cap.kvar_at_current(row.ac6b_current_a, row.voltage_v)
 
 
 def pick_contactor(rows: Sequence, required_a: float, peak_a: float | None, capacitor_limit_a: float):
@@ -128,7 +133,7 @@ def pick_contactor(rows: Sequence, required_a: float, peak_a: float | None, capa
     tuple
         (row or None, damping needed: bool)
     """
-    fit = sorted((r for r in rows if contactor_current_a(r) >= required_a - 1e-9), key=lambda r: r.max_kvar)
+    fit = sorted((r for r in rows if contactor_current_a(r) >= required_a - 1e-9), key=lambda r: r.ac6b_current_a)
     plain = [r for r in fit if r.damping == "none"]
     damped = [r for r in fit if r.damping == "resistors"]
     if peak_a is None:
@@ -193,11 +198,13 @@ def step_switching(index: int, capacitances_uf: Sequence[float], reactors_uh: Se
     if peak is not None and peak > limit:
         worst_loop = loop if (b2b is not None and b2b >= (energising or 0.0)) else (source_uh or 0.0) + l_k
         extra = damping_inductance_uh(peak, limit, worst_loop)
-    pick = None if row is None else Pick(designation=row.contactor_id, value=row.max_kvar, table=row.table,
+    pick = None if row is None else Pick(designation=row.contactor_id, value=row.ac6b_current_a, table=row.table,
                                          row=row.row)
     return StepSwitching(
         contactor=pick, damping=row.damping if row is not None else "none", required_current_a=required_a,
-        contactor_current_a=contactor_current_a(row) if row is not None else 0.0, energising_peak_a=energising,
+        contactor_current_a=contactor_current_a(row) if row is not None else 0.0,
+        contactor_voltage_v=row.voltage_v if row is not None else 0.0,
+        contactor_kvar=contactor_kvar(row) if row is not None else 0.0, energising_peak_a=energising,
         back_to_back_peak_a=b2b, loop_inductance_uh=loop, inrush_frequency_hz=freq, capacitor_limit_a=cap_limit,
         contactor_limit_a=row.max_peak_a if row is not None else 0.0, damping_needed=needed or extra is not None,
         damping_reactor_uh=extra, coil_sealed_va=row.coil_sealed_va if row is not None else 0.0,

@@ -8,7 +8,7 @@ Every field is read with ``getattr`` so that the worksheet renders results with 
 from __future__ import annotations
 
 from bankbuild.reports.pdf_blocks import C, grid, heading, key_values, verdict
-from bankbuild.reports.pdf_common import P, num
+from bankbuild.reports.pdf_common import P, gnum, num
 from bankbuild.reports.pdf_figures import model_pairs
 from bankbuild.results.sizing import BankResult
 
@@ -24,12 +24,23 @@ def _amps(value) -> str:
     return num(value, 0, "A") if value is not None else "—"
 
 
+def _current_and_kvar(sw) -> str:
+    """Needed / rated AC-6b current, then the kvar the frame may switch with its derivation Q = √3·U·I_e."""
+    amps = getattr(sw, "contactor_current_a", None)
+    volts, kvar = getattr(sw, "contactor_voltage_v", None), getattr(sw, "contactor_kvar", None)
+    rated = f"{gnum(amps)} A" if amps else _amps(amps)
+    text = f"{_amps(getattr(sw, 'required_current_a', None))} / {rated}"
+    if getattr(sw, "contactor", None) is not None and volts and kvar and amps:
+        text += f"; √3 × {gnum(volts)} V × {gnum(amps)} A = {num(kvar, 1, 'kvar')}"
+    return text
+
+
 def switching_table(bank: BankResult, width: float):
     """The contactor and switching inrush of each step, or None when the results carry none."""
     steps = [s for s in bank.steps if getattr(s, "switching", None) is not None]
     if not steps:
         return None
-    head = [C(h, "head") for h in ("Step", "Capacitor-duty contactor", "Needed / rated current",
+    head = [C(h, "head") for h in ("Step", "Capacitor-duty contactor", "Needed / AC-6b current, kvar",
                                    "Energising peak", "Back-to-back peak", "Limit (capacitor, contactor)",
                                    "Damping", "Result")]
     rows = [head]
@@ -48,11 +59,11 @@ def switching_table(bank: BankResult, width: float):
             damping += f"; add {num(extra, 1, 'µH')} per phase"
         rows.append([
             C(str(step.index)), C(pick_text(getattr(sw, "contactor", None))),
-            C(f"{_amps(getattr(sw, 'required_current_a', None))} / {_amps(getattr(sw, 'contactor_current_a', None))}"),
+            C(_current_and_kvar(sw)),
             C(_amps(getattr(sw, "energising_peak_a", None))), C(_amps(getattr(sw, "back_to_back_peak_a", None))),
             C(f"{_amps(getattr(sw, 'capacitor_limit_a', None))}, {_amps(getattr(sw, 'contactor_limit_a', None))}"),
             C(damping), verdict(ok)])
-    shares = (0.05, 0.22, 0.12, 0.1, 0.135, 0.16, 0.125, 0.09)
+    shares = (0.05, 0.18, 0.22, 0.1, 0.115, 0.14, 0.115, 0.08)
     return grid(rows, [width * s for s in shares])
 
 
@@ -89,7 +100,9 @@ def assembly_sections(bank: BankResult, width: float) -> list:
     table = switching_table(bank, width)
     if table is not None:
         story += heading("Contactors and switching inrush, per step") + [
-            table, P("Peaks are estimates (energising: √2·√(I_sc·I₁); back-to-back from the loop inductance). "
+            table, P("A frame's kvar is derived from its AC-6b current I_e at the table voltage U that covers the "
+                     "supply: Q = √3·U·I_e (IEC 60947-4-1, category AC-6b). "
+                     "Peaks are estimates (energising: √2·√(I_sc·I₁); back-to-back from the loop inductance). "
                      "A step is flagged when its peak exceeds the lower limit and no damping is fitted.", "note")]
     inrush = getattr(bank, "inrush", None)
     if inrush is not None:

@@ -112,7 +112,9 @@ class StepSwitching(Frozen):
     contactor: Pick | None
     damping: str  # none | resistors
     required_current_a: float
-    contactor_current_a: float  # capacitor-duty current of the contactor at the supply voltage
+    contactor_current_a: float  # AC-6b current of the contactor at the table voltage that covers the supply
+    contactor_voltage_v: float  # that table voltage (0 without a contactor)
+    contactor_kvar: float  # kvar the contactor may switch there: √3 · U · I_e
     energising_peak_a: float | None  # the step switched alone (needs the transformer)
     back_to_back_peak_a: float | None  # the step switched with every other step on
     loop_inductance_uh: float | None

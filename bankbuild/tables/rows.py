@@ -103,12 +103,16 @@ class Reactor:
 
 @dataclass(frozen=True)
 class Contactor:
-    """A capacitor-duty contactor rating at one voltage; ``damping`` names pre-insertion resistors."""
+    """A capacitor-duty contactor rating at one voltage; ``damping`` names pre-insertion resistors.
+
+    ``ac6b_current_a`` is the capacitor current the frame may switch at ``voltage_v`` (category AC-6b); the kvar
+    it may switch there is derived from it, Q = √3·U·I_e, never tabulated.
+    """
 
     contactor_id: str
     damping: str
     voltage_v: float
-    max_kvar: float
+    ac6b_current_a: float
     max_peak_a: float
     coil_sealed_va: float
     coil_inrush_va: float

@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 from bankbuild.calc import system
 from bankbuild.design.switching import (
     capacitance_uf,
+    contactor_kvar,
     damping_inductance_uh,
     delay_setting_s,
     discharge_tau_s,
@@ -89,30 +90,62 @@ def test_parallel_inductance():
 
 
 CONTACTORS = [
-    Row(contactor_id="P-25", damping="none", voltage_v=480.0, max_kvar=30.0, max_peak_a=1083.0, table="t", row=1),
-    Row(contactor_id="P-50", damping="none", voltage_v=480.0, max_kvar=60.0, max_peak_a=2165.0, table="t", row=2),
-    Row(contactor_id="R-25", damping="resistors", voltage_v=480.0, max_kvar=30.0, max_peak_a=7217.0, table="t",
+    Row(contactor_id="P-32", damping="none", voltage_v=480.0, ac6b_current_a=32.0, max_peak_a=960.0, table="t", row=1),
+    Row(contactor_id="P-63", damping="none", voltage_v=480.0, ac6b_current_a=63.0, max_peak_a=1890.0, table="t",
+        row=2),
+    Row(contactor_id="R-32", damping="resistors", voltage_v=480.0, ac6b_current_a=32.0, max_peak_a=6400.0, table="t",
         row=3),
-    Row(contactor_id="R-50", damping="resistors", voltage_v=480.0, max_kvar=60.0, max_peak_a=14434.0, table="t",
-        row=4),
+    Row(contactor_id="R-63", damping="resistors", voltage_v=480.0, ac6b_current_a=63.0, max_peak_a=12600.0,
+        table="t", row=4),
 ]
 
 
 def test_contactor_pick_prefers_no_damping_when_the_peak_allows():
     row, damped = pick_contactor(CONTACTORS, 30.0, 800.0, 3000.0)
-    assert (row.contactor_id, damped) == ("P-25", False)
+    assert (row.contactor_id, damped) == ("P-32", False)
 
 
 def test_contactor_pick_uses_resistors_instead_of_an_oversized_frame():
     # 1500 A would fit the larger plain frame, but the practice is damping, not oversizing.
     row, damped = pick_contactor(CONTACTORS, 30.0, 1500.0, 3000.0)
-    assert (row.contactor_id, damped) == ("R-25", True)
+    assert (row.contactor_id, damped) == ("R-32", True)
 
 
 def test_contactor_pick_when_even_resistors_are_not_enough():
     row, damped = pick_contactor(CONTACTORS, 30.0, 9000.0, 3000.0)
-    assert (row.contactor_id, damped) == ("R-25", True)  # the caller adds damping reactors
+    assert (row.contactor_id, damped) == ("R-32", True)  # the caller adds damping reactors
     assert pick_contactor(CONTACTORS, 80.0, 500.0, 3000.0) == (None, True)
+
+
+def test_contactor_frames_are_named_by_current_on_the_r10_series(catalogs):
+    # Source: ISO 3 preferred numbers, series R10 (1, 1.25, 1.6, 2, 2.5, 3.15, 4, 5, 6.3, 8; 3.15 written 3.2 as
+    # rated currents usually are), from memory. Each frame's id names its AC-6b current at 400 V and whether it
+    # has damping resistors.
+    at_400 = [r for r in catalogs.contactors if r.voltage_v == 400.0]
+    assert sorted({r.ac6b_current_a for r in at_400}) == [16, 20, 25, 32, 40, 50, 63, 80, 100, 125, 160]
+    for r in at_400:
+        tag = {"none": "PLAIN", "resistors": "DAMPED"}[r.damping]
+        assert r.contactor_id == f"SWD-{r.ac6b_current_a:g}A-{tag}"
+
+
+def test_contactor_kvar_is_derived_from_its_current(catalogs):
+    # Source: three-phase reactive power Q = √3·U·I (any circuits textbook): the 25 A frame switches
+    # √3 × 400 V × 25 A = 17.32 kvar at 400 V and √3 × 480 V × 25 A = 20.78 kvar at 480 V.
+    by_key = {(r.contactor_id, r.voltage_v): r for r in catalogs.contactors}
+    assert contactor_kvar(by_key["SWD-25A-PLAIN", 400.0]) == pytest.approx(17.32, abs=0.005)
+    assert contactor_kvar(by_key["SWD-25A-DAMPED", 480.0]) == pytest.approx(20.78, abs=0.005)
+    for r in catalogs.contactors:
+        assert contactor_kvar(r) == pytest.approx(math.sqrt(3) * r.voltage_v * r.ac6b_current_a / 1000, rel=1e-12)
+
+
+def test_step_switching_carries_the_kvar_derivation(catalogs):
+    # A 50 kvar step at 480 V draws 60.1 A (Q / (√3·U)); the smallest frame carrying 60.1 A is 63 A, which at
+    # 480 V switches √3 × 480 V × 63 A = 52.4 kvar (Q = √3·U·I).
+    sw = step_switching(0, [capacitance_uf(50.0, 480.0, 60.0)], [0.0], 60.1, 60.1, 480.0, 5.0, None,
+                        catalogs.contactors)
+    assert sw.contactor.designation == "SWD-63A-PLAIN" and sw.contactor.value == 63.0
+    assert (sw.contactor_current_a, sw.contactor_voltage_v) == (63.0, 480.0)
+    assert sw.contactor_kvar == pytest.approx(52.38, abs=0.005)
 
 
 def test_detuned_steps_limit_back_to_back_inrush(catalogs):

@@ -107,6 +107,20 @@ def test_every_table_row_named_in_the_bom_exists(demo):
                 assert line.description.startswith(first_cell), (line.description, first_cell)
 
 
+def test_contactor_lines_show_the_kvar_derived_from_the_current(demo):
+    # Source: three-phase reactive power Q = √3·U·I (any circuits textbook); the numbers are the step's own.
+    for bank in demo.banks:
+        for step in bank.steps:
+            sw = step.switching
+            if sw is None or sw.contactor is None:
+                continue
+            amps, volts = sw.contactor_current_a, sw.contactor_voltage_v
+            assert sw.contactor_kvar == pytest.approx(3 ** 0.5 * volts * amps / 1000, rel=1e-12)
+            text = f"AC-6b {amps:g} A at {volts:g} V: Q = √3 × {volts:g} V × {amps:g} A = {sw.contactor_kvar:.1f} kvar"
+            lines = [b.description for b in bank.bom if b.description.startswith(sw.contactor.designation + ":")]
+            assert lines and all(line.endswith(text) for line in lines)
+
+
 def test_project_bom_merges_the_banks(demo):
     totals = Counter()
     for bank in demo.banks:

@@ -172,7 +172,7 @@ def test_contactors_checked_at_the_new_voltage(rerate, catalogs):
     if "switching" not in Step.model_fields:
         pytest.skip("the assembly (step contactors) is not part of the results yet")
     # Source: the contactor table's frame ratings (one row per frame and voltage): a frame's capacitor-duty
-    # current at 600 V is its kvar there / (√3 × 600 V); the step's current rises with V (re-rating formula).
+    # current at 600 V is its AC-6b current in the 600 V row; the step's current rises with V (re-rating formula).
     data = spec(bank(need={"kvar": 150}, steps=[25, 25, 50, 50]))
     result = rerate(data, 600.0).banks[0]
     fits = {i.item: i for i in result.items}
@@ -181,7 +181,7 @@ def test_contactors_checked_at_the_new_voltage(rerate, catalogs):
         frame = item.installed.split(" ")[0]
         row = min((r for r in catalogs.contactors if r.contactor_id == frame and r.voltage_v >= 600),
                   key=lambda r: r.voltage_v)
-        capacity = row.max_kvar * 1000 / (math.sqrt(3) * row.voltage_v)
+        capacity = row.ac6b_current_a
         assert item.fits is (capacity >= step.switching.required_current_a and
                              not (step.switching.damping_needed and "(none)" in item.installed))
     lower = {i.item: i for i in rerate(data, 440.0).banks[0].items}
@@ -227,22 +227,23 @@ def test_bom_difference_on_full_bills_of_materials(rerate, catalogs):
     data = spec(bank(need={"kvar": 50}))
     result = rerate(data, 415.0).banks[0]
 
-    def lines(volts, kvar, *extra):
+    def lines(volts, amps, *extra):
         return [BomLine(item=1, qty=3, unit="pcs", category="Step protection",
                         description=f"Fuse-link 100 A, time-delay fuse-link, rated ≥ {volts} V"),
                 BomLine(item=2, qty=1, unit="pcs", category="Step switching",
-                        description=f"CCR-50: contactor frame 50 kvar at 400 V; {kvar} kvar at {volts} V"),
+                        description=f"SWD-63A-DAMPED: contactor frame 63 A at 400 V; AC-6b {amps} A at {volts} V: "
+                                    f"Q = √3 × {volts} V × {amps} A = {math.sqrt(3) * volts * amps / 1000:.1f} kvar"),
                 BomLine(item=3, qty=1, unit="pcs", category="Control",
                         description=f"CPT-150: Control power transformer 150 VA single-phase, {volts} V / 120 V"),
                 *extra]
 
-    old = result.at_new_supply.model_copy(update={"bom": lines(480, 60)})
-    new = result.resized.model_copy(update={"bom": lines(415, 51.8, BomLine(
+    old = result.at_new_supply.model_copy(update={"bom": lines(480, 63)})
+    new = result.resized.model_copy(update={"bom": lines(415, 63, BomLine(
         item=4, qty=12, unit="pcs", category="Discharge", description="Discharge resistor"))})
     basis, diff = bom_difference(old, new, catalogs.capacitor_units)
     got = {(c.action, c.qty, c.description.split(",")[0].split(":")[0]) for c in diff}
     assert basis == "bill of materials"
-    assert got == {("keep", 3, "Fuse-link 100 A"), ("keep", 1, "CCR-50"), ("remove", 1, "CPT-150"),
+    assert got == {("keep", 3, "Fuse-link 100 A"), ("keep", 1, "SWD-63A-DAMPED"), ("remove", 1, "CPT-150"),
                    ("add", 1, "CPT-150"), ("add", 12, "Discharge resistor")}
     _, back = bom_difference(new, old, catalogs.capacitor_units)  # 415 V parts do not serve 480 V
     assert {(c.action, c.description.split(",")[0]) for c in back if "Fuse" in c.description} == {
@@ -302,7 +303,7 @@ SIZE_KEYS = {"name", "required_kvar", "delivered_kvar", "supply_voltage_v", "fre
 @pytest.fixture
 def spec_file(write_yaml):
     return write_yaml({
-        "project": {"name": "Fernhill Joinery (invented site)"}, "rules": "nec",
+        "project": {"name": "Skelvory Joinery (invented site)"}, "rules": "nec",
         "banks": [
             {"name": "Saw line bank", "supply": {"voltage_v": 480, "frequency_hz": 60, "transformer_kva": 1000,
                                                  "transformer_z_pct": 5.75},

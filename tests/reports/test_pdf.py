@@ -240,8 +240,9 @@ def test_a_step_whose_inrush_peak_exceeds_its_limit_undamped_is_flagged():
     from bankbuild.reports.pdf_worksheet_assembly import switching_table
 
     def step(index, peak, damping):
-        switching = NS(contactor=NS(designation="CC-50", table="contactors.csv", row=3), damping=damping,
-                       required_current_a=58.0, contactor_current_a=72.0, energising_peak_a=peak,
+        switching = NS(contactor=NS(designation="SWD-63A-PLAIN", table="contactors.csv", row=3), damping=damping,
+                       required_current_a=58.0, contactor_current_a=63.0, contactor_voltage_v=480.0,
+                       contactor_kvar=52.4, energising_peak_a=peak,
                        back_to_back_peak_a=None, capacitor_limit_a=5000.0, contactor_limit_a=2000.0,
                        damping_reactor_uh=None)
         return NS(index=index, switching=switching)
