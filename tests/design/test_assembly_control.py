@@ -45,7 +45,7 @@ def test_lead_burden():
 
 def test_controller_ct_and_control_transformer(catalogs):
     result, checks = control_circuit(inputs(), catalogs)
-    assert result.controller.designation == "PFC-6" and result.controller.value == 6
+    assert result.controller.designation == "CTL-6OUT" and result.controller.value == 6
     assert result.ct.value == 2000  # the next standard primary above 1804 A
     # 5 m each way of 2.5 mm² at 5 A (1.75 VA) plus the controller's 0.5 VA input
     assert result.ct_burden_needed_va == pytest.approx(2.25)
