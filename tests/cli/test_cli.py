@@ -120,7 +120,7 @@ def test_size_terminal_summary(capsys, tmp_path):
     code, out, err = cli(capsys, "size", SPECS / "line3_300kvar.yaml", "--out", tmp_path / "docs")
     assert (code, err) == (0, "")
     lines = out.splitlines()
-    assert lines[0] == "bankbuild 0.1.0 — Harrow Flats Mill (invented site)"
+    assert lines[0] == "bankbuild 0.1.0 — Tandrellow Mill (invented site)"
     assert lines[1] == "rule basis: NEC 2023 (Table 310.16, 240.6(A), Article 460)"
     for expected in [
         "== Line 3 ==",
