@@ -58,7 +58,7 @@ def magnetising_kvar(voltage_v: float, no_load_current_a: float, no_load_pf: flo
     References
     ----------
     .. [1] CSA C22.1 (Canadian Electrical Code), Rule 26-218: capacitor kvar at a motor not more than the kvar
-       that raises the no-load power factor to unity (clause as in trade-facts).
+       that raises the no-load power factor to unity (rule number from memory).
     .. [2] NEMA MG 1, Part 14, power factor correction (from memory).
     """
     _finite_pos("voltage_v", voltage_v)

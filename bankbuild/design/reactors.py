@@ -13,8 +13,8 @@ from bankbuild.results.sizing import Pick, Step, StepReactor
 REACTOR_LOSSES_W_PER_KVAR = 5.0
 """Losses of a reactor made to order, per step kvar [W/kvar] - from memory (the basis of reactors.csv)."""
 
-IEEE18_RMS_VOLTAGE_PU = 1.10  # continuous rms voltage limit, IEEE Std 18-2012 (trade-facts.md)
-IEEE18_PEAK_VOLTAGE_PU = 1.20  # continuous peak voltage limit with harmonics, IEEE Std 18-2012 (trade-facts.md)
+IEEE18_RMS_VOLTAGE_PU = 1.10  # continuous rms voltage limit, IEEE Std 18-2012
+IEEE18_PEAK_VOLTAGE_PU = 1.20  # continuous peak voltage limit with harmonics, IEEE Std 18-2012
 
 
 def harmonic_current_pct(p: float, harmonic_voltage_pct: Mapping[int, float]) -> dict[int, float]:
