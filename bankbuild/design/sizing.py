@@ -12,6 +12,7 @@ from bankbuild.design.assembly import step_targets as planned_targets
 from bankbuild.design.bom import project_bom
 from bankbuild.design.checks import system_figures
 from bankbuild.design.existing import resolve_units
+from bankbuild.design.harmonics import study as harmonic_study
 from bankbuild.design.protection import CircuitContext, size_circuit
 from bankbuild.design.rules import CAUTIONS, discharge_for, rule_basis
 from bankbuild.design.select import build_step, pick_unit_voltage, unit_voltages
@@ -219,7 +220,11 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
         capacitance_uf_per_phase=cap.capacitance_uf_per_leg(rated_kvar, v_r, f_r, bank.connection),
         detuning_pct=bank.detuning_pct, steps=sized, main=main, discharge=discharge, resonance=resonance,
         voltage_rise_pct=rise, checks=checks, system=system)
-    return assemble_bank(result, bank, catalogs, ctx, units)
+    assembled = assemble_bank(result, bank, catalogs, ctx, units)
+    if bank.harmonics is None:
+        return assembled
+    harmonics, harmonic_checks = harmonic_study(bank, assembled, spec.rules, available)
+    return assembled.model_copy(update={"harmonics": harmonics, "checks": [*assembled.checks, *harmonic_checks]})
 
 
 def _basis_text(rated_a: float, line_a: float) -> str:

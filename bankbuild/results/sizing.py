@@ -6,7 +6,10 @@ Field names carry their units. The keys listed as stable in the product design (
 
 from __future__ import annotations
 
+from pydantic import model_serializer
+
 from bankbuild.results.base import Frozen
+from bankbuild.results.harmonics import HarmonicStudy
 
 
 class Check(Frozen):
@@ -383,6 +386,15 @@ class BankResult(Frozen):
     reconnection: Reconnection | None = None
     control: ControlResult | None = None
     enclosure: EnclosureResult | None = None
+    harmonics: HarmonicStudy | None = None  # only when the spec gives the bank a harmonics block
+
+    @model_serializer(mode="wrap")
+    def _absent_study(self, handler):
+        """A bank without a ``harmonics`` block has no ``harmonics`` key at all (not null)."""
+        data = handler(self)
+        if self.harmonics is None and isinstance(data, dict):
+            data.pop("harmonics", None)
+        return data
 
 
 class TableUsed(Frozen):

@@ -24,6 +24,8 @@ from pydantic import (
 )
 from pydantic_core import InitErrorDetails, PydanticCustomError
 
+from bankbuild.spec.harmonics import Harmonics
+
 TEXT_MAX = 200
 
 def _as_text(value: object) -> object:
@@ -346,6 +348,7 @@ class Bank(_Strict):
                      Field(min_length=1, max_length=32)] | None = None
     light_load: LightLoad | None = None
     motor: Motor | None = None
+    harmonics: Harmonics | None = None
 
     @field_validator("name")
     @classmethod
@@ -375,6 +378,9 @@ class Bank(_Strict):
         if self.light_load is not None and (self.light_load.fixed_steps or 0) > self.step_count:
             raise ValueError(f"light_load.fixed_steps {self.light_load.fixed_steps} is more than the bank's "
                              f"{self.step_count} steps")
+        if self.harmonics is not None and not self.supply.has_transformer:
+            raise ValueError("harmonics needs supply.transformer_kva and transformer_z_pct (the source impedance "
+                             "the study works with)")
         return self
 
     @property

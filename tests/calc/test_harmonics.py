@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 
 from bankbuild.calc import harmonics as hm
 from bankbuild.calc import system as sysc
-from bankbuild.calc.harmonic_spectra import SPECTRA
+from bankbuild.spec.spectra import SPECTRA
 
 # ---------------------------------------------------------------- the independent formulation
 
