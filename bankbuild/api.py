@@ -30,7 +30,7 @@ def spec_catalogs_dir(spec_file) -> Path | None:
     if Path(value).is_absolute() or not target.is_relative_to(base):
         raise SpecError(spec_file.path, "catalogs",
                         f"{value!r} points outside the spec's folder; keep user tables beside the spec, or "
-                        "pass --catalogs on the command line")
+                        "name the folder yourself (`catalogs_dir`)")
     if not target.exists():
         raise SpecError(spec_file.path, "catalogs", f"folder {value!r} not found (looked for {target})")
     if not target.is_dir():
@@ -49,7 +49,7 @@ def _tables_stay_inside(spec_file, folder: Path, base: Path) -> None:
             if entry.suffix.lower() == ".csv" and not entry.resolve().is_relative_to(base):
                 raise SpecError(spec_file.path, "catalogs",
                                 f"{entry.name} in {spec_file.spec.catalogs!r} links to a file outside the spec's "
-                                "folder; copy the table in, or pass --catalogs on the command line")
+                                "folder; copy the table in, or name the folder yourself (`catalogs_dir`)")
     except OSError as exc:
         raise SpecError(spec_file.path, "catalogs", f"cannot read the folder ({exc.strerror or exc})") from None
 

@@ -7,6 +7,7 @@ frequency, as a fraction (0.07 for a "7 %" reactor). Voltages are line-to-line; 
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 
 from bankbuild.calc._domain import finite_nonneg as _finite_nonneg
 from bankbuild.calc._domain import finite_pos as _finite_pos
@@ -266,3 +267,74 @@ def p_from_tuning_order(order: float) -> float:
     if not (math.isfinite(order) and order > 1.0):
         raise ValueError(f"tuning order must be a finite number > 1, got {order!r}")
     return 1.0 / order**2
+
+
+def harmonic_current_pct(p: float, harmonic_voltage_pct: Mapping[int, float]) -> dict[int, float]:
+    """Harmonic currents through a detuned step driven by harmonic voltages of the supply.
+
+    Parameters
+    ----------
+    p : float
+        Tuning factor X_L / X_C at the fundamental, a fraction in (0, 1) [-].
+    harmonic_voltage_pct : mapping of int to float
+        Harmonic order h -> supply voltage at that order, % of the fundamental [%].
+
+    Returns
+    -------
+    dict of int to float
+        Order -> current through the step, % of the fundamental step current [%]; infinite at the tuning
+        order itself.
+
+    Notes
+    -----
+    The step impedance at order h is X_C·(p·h − 1/h); at the fundamental its magnitude is X_C·(1 − p). So
+    I_h / I_1 = (U_h / U_1) · (1 − p) / |p·h − 1/h|.
+
+    Examples
+    --------
+    >>> {h: round(v, 1) for h, v in harmonic_current_pct(0.07, {5: 6.0, 7: 5.0}).items()}
+    {5: 37.2, 7: 13.4}
+
+    References
+    ----------
+    .. [1] Impedance of a series LC branch at harmonic frequencies; any circuits textbook.
+    """
+    out: dict[int, float] = {}
+    for h, u_pct in sorted(harmonic_voltage_pct.items()):
+        denominator = abs(p * h - 1.0 / h)
+        out[h] = math.inf if denominator < 1e-12 else u_pct * (1.0 - p) / denominator
+    return out
+
+
+def capacitor_voltages_v(capacitor_voltage_v: float, current_pct: Mapping[int, float]) -> tuple[float, float]:
+    """The rms voltage on the capacitor with harmonics, and fundamental plus harmonics added arithmetically.
+
+    Parameters
+    ----------
+    capacitor_voltage_v : float
+        Fundamental voltage across the capacitor, U / (1 − p) for a detuned step [V].
+    current_pct : mapping of int to float
+        Harmonic order -> current through the capacitor, % of the fundamental [%].
+
+    Returns
+    -------
+    tuple of float
+        (rms voltage [V], arithmetic sum [V]); the sum is the worst-case peak divided by √2.
+
+    Notes
+    -----
+    The capacitor's reactance at order h is X_C / h, so U_h / U_1 = (I_h / I_1) / h.
+    U_rms = U_1·√(1 + Σ (a_h / h)²), U_sum = U_1·(1 + Σ a_h / h) with a_h = I_h / I_1.
+
+    Examples
+    --------
+    >>> [round(v, 1) for v in capacitor_voltages_v(516.1, {5: 37.2, 7: 13.4})]
+    [517.6, 564.4]
+    """
+    rms = 1.0
+    arithmetic = 1.0
+    for h, pct in current_pct.items():
+        a = pct / 100.0 / h
+        rms += a * a
+        arithmetic += a
+    return capacitor_voltage_v * math.sqrt(rms), capacitor_voltage_v * arithmetic

@@ -203,3 +203,48 @@ def resistor_power_w(voltage_rms_v: float, resistance_ohm: float) -> float:
     _finite_nonneg("voltage_rms_v", voltage_rms_v)
     _finite_pos("resistance_ohm", resistance_ohm)
     return voltage_rms_v**2 / resistance_ohm
+
+
+def discharge_tau_s(rated_voltage_v: float, discharge_voltage_v: float, discharge_time_s: float) -> float:
+    """Time constant R·C of a unit's own discharge resistors from its table data [s].
+
+    The unit table states that the resistors bring √2·V_rated down to ``discharge_voltage_v`` within
+    ``discharge_time_s``: τ = t / ln(√2·V_rated / V_d).
+
+    Examples
+    --------
+    >>> round(discharge_tau_s(480.0, 50.0, 60.0), 2)
+    23.0
+    """
+    return discharge_time_s / math.log(math.sqrt(2.0) * rated_voltage_v / discharge_voltage_v)
+
+
+def own_resistor_time_s(rated_voltage_v: float, discharge_voltage_v: float, discharge_time_s: float,
+                        start_voltage_v: float, limit_v: float) -> float:
+    """Time a unit's own discharge resistors take from ``start_voltage_v`` to ``limit_v`` [s].
+
+    The unit's data state that its resistors bring √2·V_rated down to ``discharge_voltage_v`` within
+    ``discharge_time_s``; that fixes the time constant τ = R·C (:func:`discharge_tau_s`), which holds for any
+    start and limit: t = τ·ln(V_start / V_limit).
+
+    Parameters
+    ----------
+    rated_voltage_v : float
+        The unit's rated voltage [V].
+    discharge_voltage_v, discharge_time_s : float
+        The unit's stated discharge: to this voltage [V] within this time [s].
+    start_voltage_v, limit_v : float
+        The start voltage and the limit of the rule checked [V].
+
+    Examples
+    --------
+    >>> round(own_resistor_time_s(480.0, 50.0, 60.0, start_voltage_v(480.0), 50.0), 1)
+    60.0
+    >>> own_resistor_time_s(30.0, 50.0, 60.0, 100.0, 50.0)  # the unit starts below its own stated limit
+    0.0
+    """
+    if math.sqrt(2.0) * rated_voltage_v <= discharge_voltage_v:
+        return 0.0
+    tau = discharge_tau_s(rated_voltage_v, discharge_voltage_v, discharge_time_s)
+    return tau * math.log(start_voltage_v / limit_v) if start_voltage_v > limit_v else 0.0
+

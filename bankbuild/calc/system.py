@@ -351,3 +351,40 @@ def near_harmonic(
         if distance <= band + 1e-12 and distance < best_distance:
             best, best_distance = harmonic, distance
     return best
+
+
+def detuned_resonance_order(short_circuit_mva: float, capacitor_kvar: float, p: float) -> float:
+    """Parallel resonance order of detuned steps (reactor in series with each step) with the supply.
+
+    Parameters
+    ----------
+    short_circuit_mva : float
+        Short-circuit power at the bank [MVA]
+    capacitor_kvar : float
+        Capacitor kvar in service, at the supply voltage without the reactor's rise [kvar]
+    p : float
+        Tuning factor X_L / X_C; 0 for plain steps [-]
+
+    Returns
+    -------
+    float
+        Resonance order [-]
+
+    Notes
+    -----
+    The source reactance X_s = V²/S_sc resonates with the branch X_L − X_C where h·X_s = X_C/h − h·X_L, so
+    h = √(X_C / (X_s + X_L)) = 1 / √(Q_C/S_sc + p); with p = 0 it is √(S_sc/Q_C). It always lies below the
+    tuning order 1/√p.
+
+    Examples
+    --------
+    >>> round(detuned_resonance_order(26.09, 400.0, 0.07), 3)
+    3.423
+    >>> round(detuned_resonance_order(17.39, 350.0, 0.0), 2)
+    7.05
+
+    References
+    ----------
+    .. [1] IEEE Std 1531-2020, guide for harmonic filter components (series-tuned branch; from memory).
+    """
+    return 1.0 / math.sqrt(capacitor_kvar / (1000.0 * short_circuit_mva) + p)

@@ -188,6 +188,23 @@ def _one_line(message: str, limit: int = 600) -> str:
     return out if len(out) <= limit else out[: limit - 1] + "…"
 
 
+class OptionNames(dict):
+    """The library's parameter names written as this command line's options: ``voltage_v`` -> ``--voltage-v``.
+
+    >>> names = OptionNames()
+    >>> names["voltage_v"], names["out_dir"], names["catalogs_dir"]
+    ('--voltage-v', '--out', '--catalogs')
+    """
+
+    SPECIAL = {"out_dir": "--out", "catalogs_dir": "--catalogs"}
+
+    def get(self, key, default=None):
+        return self[key] if key else default
+
+    def __missing__(self, key: str) -> str:
+        return self.SPECIAL.get(key, "--" + key.replace("_", "-"))
+
+
 def run(argv: list[str] | None = None) -> int:
     """Run the app and turn every expected failure into one line on stderr and exit code 2."""
     from typer.exceptions import Abort, TyperException
@@ -196,7 +213,7 @@ def run(argv: list[str] | None = None) -> int:
     try:
         code = command.main(args=argv, prog_name="bankbuild", standalone_mode=False)
     except BankbuildError as exc:
-        typer.echo(f"bankbuild: error: {_one_line(exc.line())}", err=True)
+        typer.echo(f"bankbuild: error: {_one_line(exc.line(OptionNames()))}", err=True)
         return 2
     except TyperException as exc:  # usage errors of the command line (bad option, missing argument, …)
         ctx = getattr(exc, "ctx", None)

@@ -10,23 +10,23 @@ import math
 from pathlib import Path
 
 from bankbuild.errors import OptionError
-
-VOLTAGE_RANGE_V = (100.0, 1000.0)  # low-voltage banks, as the spec's supply.voltage_v
-FREQUENCY_RANGE_HZ = (45.0, 65.0)
+from bankbuild.spec.model import Supply, field_bounds
 
 
-def _in_range(option: str, value: float | None, low: float, high: float, unit: str) -> None:
+def _in_range(option: str, value: float | None, unit: str) -> None:
+    """The option's value within the range the spec's ``supply`` accepts for the same field."""
     if value is None:
         return
-    if not math.isfinite(value) or not low <= value <= high:
+    low, high = field_bounds(Supply, option.removeprefix("--").replace("-", "_"))
+    if not math.isfinite(value) or not low <= value <= high or value == 0 == low:
         raise OptionError("", option, f"must be between {low:g} and {high:g} {unit} (got {value:g})")
 
 
 def transformer_option(kva: float | None, z_pct: float | None, source_sc_mva: float | None) -> dict | None:
     """The new site's transformer from the options, or None to keep each bank's own."""
-    _in_range("--transformer-kva", kva, 1e-3, 100_000, "kVA")
-    _in_range("--transformer-z-pct", z_pct, 1e-3, 25, "%")
-    _in_range("--source-sc-mva", source_sc_mva, 1e-3, 100_000, "MVA")
+    _in_range("--transformer-kva", kva, "kVA")
+    _in_range("--transformer-z-pct", z_pct, "%")
+    _in_range("--source-sc-mva", source_sc_mva, "MVA")
     if (kva is None) != (z_pct is None):
         raise OptionError("", "--transformer-kva" if kva is None else "--transformer-z-pct",
                           "give --transformer-kva and --transformer-z-pct together")
@@ -47,8 +47,8 @@ def run_rerate(spec_path: Path, voltage_v: float, frequency_hz: float | None, ou
     from bankbuild.spec.read import read_spec
     from bankbuild.tables.load import load_catalogs
 
-    _in_range("--voltage-v", voltage_v, *VOLTAGE_RANGE_V, "V")
-    _in_range("--frequency-hz", frequency_hz, *FREQUENCY_RANGE_HZ, "Hz")
+    _in_range("--voltage-v", voltage_v, "V")
+    _in_range("--frequency-hz", frequency_hz, "Hz")
     spec_file = read_spec(spec_path)
     tables = catalogs_dir if catalogs_dir is not None else spec_catalogs_dir(spec_file)
     catalogs = load_catalogs(tables)

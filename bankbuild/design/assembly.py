@@ -11,21 +11,22 @@ import math
 from bankbuild.calc import capacitor as cap
 from bankbuild.calc import power as pw
 from bankbuild.calc import system as sysc
+from bankbuild.calc.discharge import discharge_tau_s
+from bankbuild.calc.switching import (
+    capacitance_uf,
+    delay_setting_s,
+    inrush_peak_a,
+    reconnection_times_s,
+    source_inductance_uh,
+)
 from bankbuild.design import stepplan
 from bankbuild.design.bom import bank_bom
 from bankbuild.design.control import ControlInputs, control_circuit, ct_basis
 from bankbuild.design.enclosure import device_loss_w, enclosure, fan_va
 from bankbuild.design.reactors import step_reactor
-from bankbuild.design.switching import (
-    capacitance_uf,
-    delay_setting_s,
-    discharge_tau_s,
-    inrush_peak_a,
-    reconnection_times_s,
-    source_inductance_uh,
-    step_switching,
-)
+from bankbuild.design.switching import step_switching
 from bankbuild.results.sizing import BankResult, Check, InrushSummary, LossLine, Reconnection, StepPlanResult
+from bankbuild.results.text import step_span
 from bankbuild.spec.model import Bank, StepPlan
 
 STEP_DEVICE_POLES = 3
@@ -81,15 +82,6 @@ def plan_result(bank: Bank, result: BankResult, units) -> StepPlanResult:
     return StepPlanResult(form=form, pattern="", rule=rule, step_kvar=steps, resolution_kvar=min(steps),
                           reachable_kvar=list(reach.values_kvar), reachable_count=reach.count,
                           largest_gap_kvar=reach.largest_gap_kvar, note=note)
-
-
-def _span(indices: list[int]) -> str:
-    """Step numbers as short text: 'step 2', 'steps 1–4', 'steps 1, 3'."""
-    if len(indices) == 1:
-        return f"step {indices[0]}"
-    if indices == list(range(indices[0], indices[-1] + 1)):
-        return f"steps {indices[0]}–{indices[-1]}"
-    return "steps " + ", ".join(map(str, indices))
 
 
 def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankResult:
@@ -195,14 +187,14 @@ def _reactor_checks(steps, tolerance_pct: float) -> list[Check]:
         orders = sorted(h for h, v in tuned[0].reactor.harmonic_current_pct.items() if not math.isfinite(v))
         checks.append(Check(
             name="Detuning against the stated harmonics", ok=False, rule="I_h/I_1 = (U_h/U_1)·(1 − p)/|p·h − 1/h|",
-            detail=f"{_span([s.index for s in tuned])}: p = {tuned[0].reactor.tuning_pct:g}% tunes onto order "
+            detail=f"{step_span([s.index for s in tuned])}: p = {tuned[0].reactor.tuning_pct:g}% tunes onto order "
                    f"{', '.join(map(str, orders))} of the stated spectrum: unbounded current; choose another p"))
     made = [s.index for s in steps if s.reactor.made_to_order]
     checks.append(Check(
         name="Detuning reactors", ok=not made, level="caution" if made else "check",
         rule=f"table reactor: same tuning, inductance within ±{tolerance_pct:g}%, current ≥ required",
         detail=("every step has a table reactor" if not made else
-                f"{_span(made)}: no table reactor fits; order one to the stated inductance and current")))
+                f"{step_span(made)}: no table reactor fits; order one to the stated inductance and current")))
     low = [s for s in steps if not s.reactor.voltage_ok]
     r = (low or steps)[0].reactor
     checks.append(Check(
@@ -211,7 +203,7 @@ def _reactor_checks(steps, tolerance_pct: float) -> list[Check]:
         detail=(f"units {r.unit_voltage_v:g} V see {r.capacitor_voltage_v:.0f} V fundamental (margin "
                 f"{r.voltage_margin_pct:.1f}%), {_volts(r.capacitor_voltage_rms_v)} rms and "
                 f"{_volts(r.capacitor_voltage_sum_v)} peak-equivalent with the stated harmonics"
-                + (f" on {_span([s.index for s in low])}: choose units of a higher rated voltage" if low else ""))))
+                + (f" on {step_span([s.index for s in low])}: choose units of a higher rated voltage" if low else ""))))
     return checks
 
 
@@ -224,13 +216,13 @@ def _switching_checks(steps, voltage_v: float, factor: float) -> list[Check]:
     none = [s.index for s in steps if s.switching.contactor is None]
     if none:
         checks.append(Check(name="Step contactors", ok=False, rule="capacitor-duty rating ≥ step current",
-                            detail=f"{_span(none)}: no contactor in the table carries the step at {voltage_v:g} V; "
+                            detail=f"{step_span(none)}: no contactor in the table carries the step at {voltage_v:g} V; "
                                    "split the step"))
     resistors = [s.index for s in steps if s.switching.damping == "resistors"]
     reactors = [s for s in steps if s.switching.damping_reactor_uh]
     detail = []
     if resistors:
-        detail.append(f"{_span(resistors)}: contactors with pre-insertion damping resistors")
+        detail.append(f"{step_span(resistors)}: contactors with pre-insertion damping resistors")
     for s in reactors:
         detail.append(f"step {s.index}: add inrush damping reactors of ≥ {s.switching.damping_reactor_uh:,.1f} µH "
                       "per phase")
@@ -252,7 +244,7 @@ def _inrush_summary(steps, caps, reactors_uh, voltage_v, inter_uh, source_uh, is
         damping = "none"
         if needed:
             kinds = sorted({s.switching.damping for s in steps if s.switching.damping_needed})
-            damping = f"{_span(needed)}: " + " and ".join(
+            damping = f"{step_span(needed)}: " + " and ".join(
                 "pre-insertion resistors" if k == "resistors" else "damping reactors" for k in kinds)
             if any(s.switching.damping_reactor_uh for s in steps):
                 damping += " plus damping reactors"

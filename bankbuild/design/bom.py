@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 
 from bankbuild.design.protection import conductor_name
 from bankbuild.results.sizing import BankResult, BomLine
+from bankbuild.results.text import step_span
 
 CATEGORIES = ("Capacitor units", "Detuning reactors", "Step switching", "Step protection", "Main protection",
               "Conductors", "Discharge", "Control and measurement", "Enclosure")
@@ -34,22 +35,6 @@ class Part:
 
 def _row(rows, number: int):
     return next(r for r in rows if r.row == number)
-
-
-def _steps_text(indices: list[int]) -> str:
-    """'step 3', 'steps 1–6', 'steps 1, 3'.
-
-    >>> _steps_text([1, 2, 3]), _steps_text([2]), _steps_text([1, 3]), _steps_text([])
-    ('steps 1–3', 'step 2', 'steps 1, 3', '')
-    """
-    ids = sorted(set(indices))
-    if not ids:
-        return ""
-    if len(ids) == 1:
-        return f"step {ids[0]}"
-    if ids == list(range(ids[0], ids[-1] + 1)):
-        return f"steps {ids[0]}–{ids[-1]}"
-    return "steps " + ", ".join(map(str, ids))
 
 
 def merge(parts: list[Part]) -> list[BomLine]:
@@ -83,7 +68,7 @@ def merge(parts: list[Part]) -> list[BomLine]:
     ranked = sorted(enumerate(merged.values()), key=lambda ip: (order.get(ip[1].category, len(order)), ip[0]))
     lines = []
     for item, (_, p) in enumerate(ranked, start=1):
-        notes = "; ".join(x for x in (_steps_text(p.where), *p.extra) if x)
+        notes = "; ".join(x for x in (step_span(p.where), *p.extra) if x)
         lines.append(BomLine(item=item, qty=float(p.qty), unit=p.unit, category=p.category,
                              description=p.description, table=p.table, row=p.row, notes=notes))
     return lines

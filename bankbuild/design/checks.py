@@ -11,8 +11,10 @@ from __future__ import annotations
 
 import math
 
+from bankbuild.calc import EPS
 from bankbuild.calc import detuning as det
 from bankbuild.calc import system as sysc
+from bankbuild.calc.system import detuned_resonance_order
 from bankbuild.design.motor import largest_within, motor_figures
 from bankbuild.results.sizing import (
     Check,
@@ -32,11 +34,9 @@ IEC_VOLTAGE_CLASSES = (  # IEC 60831-1 maximum permissible voltages (from memory
     (1.00, "continuous"), (1.10, "8 h in every 24 h"), (1.15, "30 min in every 24 h"), (1.20, "5 min"),
     (1.30, "1 min"))
 UNDERUSED_PU = 0.5  # below this, most of a unit's nameplate kvar is wasted
-HARMONICS = (5, 7, 11, 13)
 DETUNED_MAX_ORDER = 4.5  # a detuned step's tuning order must stay below the 5th's ±10 % band
 SUGGESTED_DETUNING = 0.07  # the usual tuning factor offered (189 Hz at 50 Hz, 227 Hz at 60 Hz)
 MAX_COMBINATIONS = 2048
-EPS = 1e-9
 
 
 def iec_duration(voltage_pu: float) -> str:
@@ -144,43 +144,6 @@ def step_combinations(values: list[float], limit: int = MAX_COMBINATIONS) -> tup
     return sorted((v for k, v in sums.items() if k > 0), key=lambda t: t[0]), complete
 
 
-def detuned_resonance_order(short_circuit_mva: float, capacitor_kvar: float, p: float) -> float:
-    """Parallel resonance order of detuned steps (reactor in series with each step) with the supply.
-
-    Parameters
-    ----------
-    short_circuit_mva : float
-        Short-circuit power at the bank [MVA]
-    capacitor_kvar : float
-        Capacitor kvar in service, at the supply voltage without the reactor's rise [kvar]
-    p : float
-        Tuning factor X_L / X_C; 0 for plain steps [-]
-
-    Returns
-    -------
-    float
-        Resonance order [-]
-
-    Notes
-    -----
-    The source reactance X_s = V²/S_sc resonates with the branch X_L − X_C where h·X_s = X_C/h − h·X_L, so
-    h = √(X_C / (X_s + X_L)) = 1 / √(Q_C/S_sc + p); with p = 0 it is √(S_sc/Q_C). It always lies below the
-    tuning order 1/√p.
-
-    Examples
-    --------
-    >>> round(detuned_resonance_order(26.09, 400.0, 0.07), 3)
-    3.423
-    >>> round(detuned_resonance_order(17.39, 350.0, 0.0), 2)
-    7.05
-
-    References
-    ----------
-    .. [1] IEEE Std 1531-2020, guide for harmonic filter components (series-tuned branch; from memory).
-    """
-    return 1.0 / math.sqrt(capacitor_kvar / (1000.0 * short_circuit_mva) + p)
-
-
 def tuning_check(bank, p: float) -> tuple[TuningCheck | None, list[Check]]:
     """A detuned bank's tuning order against the 5th harmonic (with or without a transformer given)."""
     if not p:
@@ -216,7 +179,7 @@ def resonance(bank, steps, p: float, available_v: list[float]):
         h = detuned_resonance_order(s_sc, q_c, p)
         points.append(ResonancePoint(steps=[steps[i - 1].index for i in members],
                                      kvar=sum(by_step[steps[i - 1].index] for i in members), harmonic_order=h,
-                                     near_harmonic=sysc.near_harmonic(h, HARMONICS)))
+                                     near_harmonic=sysc.near_harmonic(h)))
     advice = None
     flagged = [pt for pt in points if pt.near_harmonic]
     shown = "" if complete else f" (first {MAX_COMBINATIONS} distinct totals and the cumulative ones)"

@@ -6,6 +6,7 @@ Part of the system checks (:mod:`bankbuild.design.checks`); the arithmetic is in
 
 from __future__ import annotations
 
+from bankbuild.calc import EPS
 from bankbuild.calc import motor as mc
 from bankbuild.design.protection import (
     IEC_MAX_SINGLE_MM2,
@@ -17,7 +18,6 @@ from bankbuild.design.protection import (
 from bankbuild.design.select import pick_conductor
 from bankbuild.results.sizing import Check, MotorCheck, UnitLine
 
-EPS = 1e-9
 PRACTICE = "common practice (no single source)"
 
 STARTING_ADVICE = {

@@ -23,23 +23,23 @@ def _check_option(name: str, value: float | None, low: float, high: float, low_o
 def kvar_figures(kw: float | None, pf_present: float | None, pf_target: float | None, loads: Path | None,
                  voltage_v: float, frequency_hz: float) -> dict:
     """Work out the correction; every bad option is an OptionError naming it."""
-    _check_option("--voltage-v", voltage_v, 0, 100_000)
-    _check_option("--frequency-hz", frequency_hz, 0, 1000)
-    _check_option("--kw", kw, 0, 1e7)
-    _check_option("--pf-present", pf_present, 0, 1)
-    _check_option("--pf-target", pf_target, 0, 1)
+    _check_option("voltage_v", voltage_v, 0, 100_000)
+    _check_option("frequency_hz", frequency_hz, 0, 1000)
+    _check_option("kw", kw, 0, 1e7)
+    _check_option("pf_present", pf_present, 0, 1)
+    _check_option("pf_target", pf_target, 0, 1)
     if loads is not None:
         if kw is not None or pf_present is not None:
-            raise OptionError("", "--loads", "give either --loads or --kw with --pf-present, not both")
+            raise OptionError("", "loads", "give either `loads` or `kw` with `pf_present`, not both")
         p_kw, q_kvar, target = _from_loads(loads, pf_target, voltage_v)
         source = str(loads)
     else:
-        missing = [n for n, v in (("--kw", kw), ("--pf-present", pf_present), ("--pf-target", pf_target))
+        missing = [n for n, v in (("kw", kw), ("pf_present", pf_present), ("pf_target", pf_target))
                    if v is None]
         if missing:
-            raise OptionError("", missing[0], "is required (or give --loads FILE)")
+            raise OptionError("", missing[0], "is required (or give `loads`)")
         if pf_target < pf_present:
-            raise OptionError("", "--pf-target", f"{pf_target:g} is below --pf-present {pf_present:g}")
+            raise OptionError("", "pf_target", f"{pf_target:g} is below `pf_present` {pf_present:g}")
         p_kw, q_kvar, target = kw, pw.reactive_kvar(kw, pf_present), pf_target
         source = "options"
     q_c = pw.correction_kvar(p_kw, q_kvar, target)

@@ -16,15 +16,15 @@ from __future__ import annotations
 import re
 from collections import Counter
 
-from bankbuild._version import __version__
-from bankbuild.design.rules import CAUTIONS, rule_basis
+from bankbuild.calc import EPS
+from bankbuild.design.provenance import provenance
+from bankbuild.design.rules import CAUTIONS
 from bankbuild.design.sizing import size_bank
 from bankbuild.errors import OptionError
 from bankbuild.results.rerate import BomChange, ItemFit, RerateBank, RerateResult, RerateStep
-from bankbuild.results.sizing import BankResult, Provenance, TableUsed
+from bankbuild.results.sizing import BankResult
 from bankbuild.spec.model import Bank, LightLoad, Spec, Supply, UnitCount
 
-EPS = 1e-6
 RERATE_CAUTION = (
     "A bank moved to another supply is a new installation: check the units' nameplates, the reactors' "
     "ratings and the site's harmonics before it is energised there, and have the protection reviewed against "
@@ -40,10 +40,7 @@ def rerate_project(spec: Spec, catalogs, voltage_v: float, frequency_hz: float |
     """
     banks = [rerate_bank(bank, i, spec, catalogs, voltage_v, frequency_hz, transformer, spec_path)
              for i, bank in enumerate(spec.banks)]
-    basis = rule_basis(spec.rules, spec.nec_edition)
-    prov = Provenance(
-        version=__version__, rules=spec.rules, edition=basis.edition, spec_file=spec_path, spec_sha256=spec_sha256,
-        tables=[TableUsed(file_name=t.file_name, sha256=t.sha256, notes=list(t.notes)) for t in catalogs.tables])
+    prov = provenance(spec, catalogs, spec_path, spec_sha256)
     return RerateResult(project=spec.project.model_dump(), provenance=prov, voltage_v=voltage_v,
                         frequency_hz=frequency_hz, banks=banks, cautions=[*CAUTIONS, RERATE_CAUTION])
 
@@ -61,7 +58,7 @@ def new_supply(supply: Supply, voltage_v: float, frequency_hz: float, transforme
     except ValidationError as exc:
         first = exc.errors(include_url=False)[0]
         name = str(first["loc"][0]) if first["loc"] else "supply"
-        raise OptionError("", "--" + name.replace("_", "-"), first["msg"].removeprefix("Value error, ")) from None
+        raise OptionError("", name, first["msg"].removeprefix("Value error, ")) from None
 
 
 def existing_units(result: BankResult) -> list[list[UnitCount]]:

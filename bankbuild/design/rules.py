@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 from bankbuild.calc import capacitor as cap
@@ -41,19 +40,6 @@ def rule_basis(rules: str, nec_edition: int = 2023) -> RuleBasis:
                      "IEC 60831-1: ≤ 75 V within 3 min")
 
 
-def builtin_time_s(unit, start_voltage_v: float, limit_v: float) -> float:
-    """Time the unit's own resistors take from ``start_voltage_v`` to ``limit_v`` [s].
-
-    The unit table states that its resistors bring √2·V_rated down to ``discharge_voltage_v`` within
-    ``discharge_time_s``; that fixes the time constant RC, which holds for any start and limit.
-    """
-    v0_unit = dis.start_voltage_v(unit.rated_voltage_v)
-    if v0_unit <= unit.discharge_voltage_v:
-        return 0.0
-    tau = unit.discharge_time_s / math.log(v0_unit / unit.discharge_voltage_v)
-    return tau * math.log(start_voltage_v / limit_v) if start_voltage_v > limit_v else 0.0
-
-
 def discharge_for(rules: str, bank, step, units, rated_voltage_v: float) -> Discharge:
     """Discharge figures for ``step`` (the one with the most capacitance) under the bank's rule."""
     basis = rule_basis(rules)
@@ -67,7 +53,8 @@ def discharge_for(rules: str, bank, step, units, rated_voltage_v: float) -> Disc
     r_max = dis.max_resistance_ohm(step.capacitance_uf_per_leg, v0, limit, time_s)
     used = {u.id for u in step.units}
     step_units = [u for u in units if u.unit_id in used]
-    builtin = max((builtin_time_s(u, dis.start_voltage_v(u.rated_voltage_v), limit) for u in step_units),
+    builtin = max((dis.own_resistor_time_s(u.rated_voltage_v, u.discharge_voltage_v, u.discharge_time_s,
+                                           dis.start_voltage_v(u.rated_voltage_v), limit) for u in step_units),
                   default=float("inf"))
     builtin_ok = builtin <= time_s + 1e-9
     return Discharge(

@@ -11,7 +11,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import lru_cache
 
-EPS = 1e-9
+from bankbuild.calc import EPS
 
 
 @dataclass(frozen=True)

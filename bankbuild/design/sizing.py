@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from bankbuild._version import __version__
 from bankbuild.calc import capacitor as cap
 from bankbuild.calc import detuning as det
 from bankbuild.calc import power as pw
@@ -14,7 +13,8 @@ from bankbuild.design.checks import system_figures
 from bankbuild.design.existing import resolve_units
 from bankbuild.design.harmonics import study as harmonic_study
 from bankbuild.design.protection import CircuitContext, size_circuit
-from bankbuild.design.rules import CAUTIONS, discharge_for, rule_basis
+from bankbuild.design.provenance import provenance
+from bankbuild.design.rules import CAUTIONS, discharge_for
 from bankbuild.design.select import build_step, pick_unit_voltage, unit_voltages
 from bankbuild.errors import SpecError
 from bankbuild.results.sizing import (
@@ -24,15 +24,11 @@ from bankbuild.results.sizing import (
     Main,
     NeedSummary,
     ProjectResult,
-    Provenance,
     ResonancePoint,
     Step,
-    TableUsed,
     UnitLine,
 )
 from bankbuild.spec.model import Bank, Need, Spec
-
-HARMONICS = (5, 7, 11, 13)
 
 
 def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "",
@@ -46,11 +42,7 @@ def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "
         banks.append(size_bank(bank, i, spec, catalogs, spec_path))
         if on_bank is not None:
             on_bank(i + 1, len(spec.banks), bank.name)
-    basis = rule_basis(spec.rules, spec.nec_edition)
-    prov = Provenance(
-        version=__version__, rules=spec.rules, edition=basis.edition, spec_file=spec_path,
-        spec_sha256=spec_sha256,
-        tables=[TableUsed(file_name=t.file_name, sha256=t.sha256, notes=list(t.notes)) for t in catalogs.tables])
+    prov = provenance(spec, catalogs, spec_path, spec_sha256)
     return ProjectResult(project=spec.project.model_dump(), provenance=prov, banks=banks, cautions=list(CAUTIONS),
                          bom=project_bom(banks))
 
@@ -263,7 +255,7 @@ def _system(bank: Bank, steps, checks: list[Check], p: float):
     for step in steps:
         total += step.kvar
         h = sysc.resonance_order(s_sc, total)
-        near = None if p else sysc.near_harmonic(h, HARMONICS)
+        near = None if p else sysc.near_harmonic(h)
         points.append(ResonancePoint(steps=list(range(1, step.index + 1)), kvar=total, harmonic_order=h,
                                      near_harmonic=near))
     # the resonance check (every step combination, detuned or not) is in system_checks

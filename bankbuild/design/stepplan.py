@@ -14,9 +14,9 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import reduce
 
+from bankbuild.calc import EPS
 from bankbuild.design.select import best_combination
 
-EPS = 1e-9
 MAX_UNITS_PER_RESOLUTION = 4
 """A resolution step is built from at most this many identical units (common practice, no single source):
 more small units in the smallest step cost parts and wiring for nothing. The largest unit size is always a

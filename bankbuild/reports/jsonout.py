@@ -7,21 +7,21 @@ import math
 from bankbuild.results.sizing import ProjectResult
 
 
-def _clean(value):
+def json_safe(value):
     """JSON has no infinity: an unbounded figure (e.g. no resistor needed) is written as null."""
     if isinstance(value, float) and not math.isfinite(value):
         return None
     if isinstance(value, dict):
-        return {k: _clean(v) for k, v in value.items()}
+        return {k: json_safe(v) for k, v in value.items()}
     if isinstance(value, list):
-        return [_clean(v) for v in value]
+        return [json_safe(v) for v in value]
     return value
 
 
 def project_json(result: ProjectResult) -> str:
     """Serialise the project results; floats are kept at full precision, infinity and NaN become null.
 
-    pydantic's own serialiser writes the same document as ``json.dumps(_clean(model_dump()), indent=2)``
+    pydantic's own serialiser writes the same document as ``json.dumps(json_safe(model_dump()), indent=2)``
     about ten times faster (the standard library indents in pure Python): 0.5 s instead of 4.6 s for a
     500-bank plant.
     """

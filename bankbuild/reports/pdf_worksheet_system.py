@@ -14,6 +14,7 @@ from bankbuild.reports.pdf_blocks import C, grid, heading, key_values, verdict
 from bankbuild.reports.pdf_common import P, gnum, num
 from bankbuild.reports.pdf_figures import bank_pairs, model_pairs
 from bankbuild.results.sizing import BankResult
+from bankbuild.results.text import step_span
 
 HARMONICS = (5, 7, 11, 13)
 NEAR_BAND_PCT = 10  # the pipeline flags an order within ±10% of a characteristic harmonic
@@ -123,9 +124,7 @@ def steps_label(steps: list[int]) -> str:
     >>> steps_label([1, 2, 3]), steps_label([2, 4]), steps_label([5])
     ('1–3', '2+4', '5')
     """
-    if len(steps) > 2 and steps == list(range(steps[0], steps[-1] + 1)):
-        return f"{steps[0]}–{steps[-1]}"
-    return "+".join(str(s) for s in steps)
+    return step_span(steps, sep="+", word=False, min_run=3)
 
 
 def resonance_points(bank: BankResult) -> tuple[list, int, bool, bool]:

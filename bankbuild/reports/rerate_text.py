@@ -9,7 +9,7 @@ import csv
 import io
 import json
 
-from bankbuild.reports.jsonout import _clean
+from bankbuild.reports.jsonout import json_safe
 from bankbuild.reports.tables import neutralise
 from bankbuild.reports.terminal import closing_lines
 from bankbuild.results.rerate import RerateBank, RerateResult
@@ -87,7 +87,7 @@ def rerate_text(result: RerateResult, written: list[str] | None = None) -> str:
 
 def rerate_json(result: RerateResult) -> str:
     """The re-rating results as one JSON document; each bank's ``resized`` has the keys of ``size --json``."""
-    return json.dumps(_clean(result.model_dump(mode="python")), indent=2, ensure_ascii=False)
+    return json.dumps(json_safe(result.model_dump(mode="python")), indent=2, ensure_ascii=False)
 
 
 def bom_difference_csv(result: RerateResult) -> str:

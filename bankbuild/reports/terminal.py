@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from bankbuild.results.sizing import BankResult, ProjectResult
+from bankbuild.results.text import step_span
 
 
 def _fmt_a(value: float) -> str:
@@ -32,11 +33,7 @@ def _amps(value: float) -> str:
 
 
 def _which(indices: list[int]) -> str:
-    if len(indices) == 1:
-        return f"step {indices[0]}"
-    if indices == list(range(indices[0], indices[-1] + 1)):
-        return f"steps {indices[0]}–{indices[-1]}"
-    return "steps " + ",".join(map(str, indices))
+    return step_span(indices, sep=",")
 
 
 def assembly_lines(bank: BankResult) -> list[str]:

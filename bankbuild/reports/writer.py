@@ -43,9 +43,9 @@ def write_rendered(rendered: list[tuple[str, bytes]], out_dir: Path) -> list[Pat
     try:
         out_dir.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise OptionError(str(out_dir), "--out", f"cannot create the folder ({exc.strerror or exc})") from None
+        raise OptionError(str(out_dir), "out_dir", f"cannot create the folder ({exc.strerror or exc})") from None
     if not out_dir.is_dir():
-        raise OptionError(str(out_dir), "--out", "is not a folder")
+        raise OptionError(str(out_dir), "out_dir", "is not a folder")
     return [write_atomic(out_dir / name, data) for name, data in rendered]
 
 
@@ -61,7 +61,7 @@ def write_atomic(path: Path, data: bytes) -> Path:
         os.replace(tmp, path)
     except OSError as exc:
         Path(tmp).unlink(missing_ok=True)
-        raise OptionError(str(path), "--out", f"cannot write ({exc.strerror or exc})") from None
+        raise OptionError(str(path), "out_dir", f"cannot write ({exc.strerror or exc})") from None
     return path
 
 

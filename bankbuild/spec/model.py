@@ -425,3 +425,29 @@ class Spec(_Strict):
             first[bank.name] = index
         return banks
 
+
+def field_bounds(model: type[BaseModel], name: str) -> tuple[float, float]:
+    """The lowest and highest value a number field of a spec model accepts (its ``ge``/``gt`` and ``le``).
+
+    One statement of each range: a command-line option that sets the same quantity checks against this.
+
+    Examples
+    --------
+    >>> field_bounds(Supply, "voltage_v"), field_bounds(Supply, "frequency_hz")
+    ((100, 1000), (45, 65))
+    """
+    import typing
+
+    info = model.model_fields[name]
+    metadata = list(info.metadata)
+    for arg in typing.get_args(info.annotation):  # an optional field: the bounds sit on the Annotated member
+        for item in getattr(arg, "__metadata__", ()):
+            metadata += [item, *getattr(item, "metadata", ())]
+    low, high = float("-inf"), float("inf")
+    for meta in metadata:
+        for attr in ("ge", "gt"):
+            if getattr(meta, attr, None) is not None:
+                low = getattr(meta, attr)
+        if getattr(meta, "le", None) is not None:
+            high = meta.le
+    return low, high

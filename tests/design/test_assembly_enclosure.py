@@ -10,7 +10,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from bankbuild.design.enclosure import air_density_kg_m3, airflow_m3_per_h, device_loss_w, enclosure, pick_fans
+from bankbuild.calc.thermal import air_density_kg_m3, airflow_m3_per_h
+from bankbuild.design.enclosure import device_loss_w, enclosure, pick_fans
 from bankbuild.results.sizing import LossLine
 
 

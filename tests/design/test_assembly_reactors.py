@@ -13,7 +13,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from bankbuild.design.reactors import capacitor_voltages_v, harmonic_current_pct, pick_reactor, step_reactor
+from bankbuild.calc.detuning import capacitor_voltages_v, harmonic_current_pct
+from bankbuild.design.reactors import pick_reactor, step_reactor
 from bankbuild.results.sizing import Detuning, Step
 
 

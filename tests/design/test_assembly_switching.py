@@ -16,20 +16,19 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from bankbuild.calc import system
-from bankbuild.design.switching import (
+from bankbuild.calc.discharge import discharge_tau_s
+from bankbuild.calc.switching import (
     capacitance_uf,
     contactor_kvar,
     damping_inductance_uh,
     delay_setting_s,
-    discharge_tau_s,
     inrush_peak_a,
     parallel_uh,
-    pick_contactor,
     reconnection_times_s,
     series_uf,
     source_inductance_uh,
-    step_switching,
 )
+from bankbuild.design.switching import pick_contactor, step_switching
 
 
 def c_from_current(i_a: float, v: float, f: float) -> float:

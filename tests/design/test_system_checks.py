@@ -10,7 +10,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from bankbuild.calc import motor as mc
-from bankbuild.design.checks import detuned_resonance_order, iec_duration, step_combinations, voltage_stress
+from bankbuild.calc.system import detuned_resonance_order
+from bankbuild.design.checks import iec_duration, step_combinations, voltage_stress
 from bankbuild.reports.terminal import bank_summary
 
 
