@@ -19,7 +19,6 @@ from bankbuild.calc import system
 from bankbuild.calc.discharge import discharge_tau_s
 from bankbuild.calc.switching import (
     capacitance_uf,
-    contactor_kvar,
     damping_inductance_uh,
     delay_setting_s,
     inrush_peak_a,
@@ -28,7 +27,7 @@ from bankbuild.calc.switching import (
     series_uf,
     source_inductance_uh,
 )
-from bankbuild.design.switching import pick_contactor, step_switching
+from bankbuild.design.switching import contactor_kvar, pick_contactor, step_switching
 
 
 def c_from_current(i_a: float, v: float, f: float) -> float:

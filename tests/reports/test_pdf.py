@@ -234,7 +234,7 @@ def test_worksheet_shows_reconnection_switching_and_enclosure_when_present(demo,
         pytest.skip("the results carry no reconnection or switching figures")
 
 
-def test_a_step_whose_inrush_peak_exceeds_its_limit_undamped_is_flagged():
+def test_a_step_the_pipeline_finds_needing_damping_is_flagged_unless_damped():
     from types import SimpleNamespace as NS
 
     from bankbuild.reports.pdf_worksheet_assembly import switching_table
@@ -244,14 +244,14 @@ def test_a_step_whose_inrush_peak_exceeds_its_limit_undamped_is_flagged():
                        required_current_a=58.0, contactor_current_a=63.0, contactor_voltage_v=480.0,
                        contactor_kvar=52.4, energising_peak_a=peak,
                        back_to_back_peak_a=None, capacitor_limit_a=5000.0, contactor_limit_a=2000.0,
-                       damping_reactor_uh=None)
+                       damping_reactor_uh=None, damping_needed=peak > 2000.0)
         return NS(index=index, switching=switching)
 
     bank = NS(steps=[step(1, 1500.0, "none"), step(2, 2500.0, "none"), step(3, 2500.0, "resistors")])
     table = switching_table(bank, 500.0)
     results = [row[-1] for row in table._cellvalues[1:]]
     assert results == ["pass", "FLAG", "pass"]
-    assert isinstance(switching_table(NS(steps=[NS(index=1)]), 500.0), type(None))
+    assert isinstance(switching_table(NS(steps=[NS(index=1, switching=None)]), 500.0), type(None))
 
 
 def test_worksheet_carries_cautions_rules_and_sign_off(demo, demo_text):
