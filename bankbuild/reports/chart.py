@@ -21,8 +21,24 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from .figure import GREY, INK, LIGHT, PALE, WHITE, Circle, Colour, Figure, Item, Line, Poly, Rect, Text, text_width
-from .figure import to_drawing, to_svg
+from .figure import (
+    GREY,
+    INK,
+    LIGHT,
+    PALE,
+    WHITE,
+    Circle,
+    Colour,
+    Figure,
+    Item,
+    Line,
+    Poly,
+    Rect,
+    Text,
+    text_width,
+    to_drawing,
+    to_svg,
+)
 
 LINE_STYLES = ("solid", "dashed", "dotted", "dashdot", "long")
 MARKERS = ("", "circle", "square", "triangle", "diamond", "cross")
@@ -113,7 +129,7 @@ def nice_ticks(low: float, high: float, count: int = 6) -> tuple[float, ...]:
     if not (math.isfinite(low) and math.isfinite(high)):
         return (0.0, 1.0)
     if high - low <= 1e-12 * max(1.0, abs(high)):
-        spread = abs(high) * 0.2 or 1.0
+        spread = abs(high) * 0.2 if abs(high) > 1e-9 else 1.0
         low, high = low - spread, high + spread
     raw = (high - low) / max(count - 1, 1)
     power = 10 ** math.floor(math.log10(raw))
@@ -122,7 +138,7 @@ def nice_ticks(low: float, high: float, count: int = 6) -> tuple[float, ...]:
     ticks = []
     value = first
     while value < high + step * 0.999:
-        ticks.append(round(value, 10) + 0.0)
+        ticks.append(float(f"{value:.12g}") + 0.0)
         value = first + len(ticks) * step
     return tuple(ticks)
 

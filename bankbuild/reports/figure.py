@@ -290,7 +290,7 @@ def to_drawing(figure: Figure):
     as in the tables.
     """
     from reportlab.graphics.shapes import Circle as RCircle
-    from reportlab.graphics.shapes import Drawing, Group, PolyLine, Polygon, String
+    from reportlab.graphics.shapes import Drawing, Group, Polygon, PolyLine, String
     from reportlab.graphics.shapes import Line as RLine
     from reportlab.graphics.shapes import Rect as RRect
     from reportlab.lib.colors import Color
