@@ -7,6 +7,10 @@ pickled on the way in) and send back bytes. The heaviest documents start first. 
 
 Whatever happens in a worker (an error, a crash, a worker killed for memory), that document is rendered
 again here, so the error a user sees is the same as in a single process. Nothing is written in this module.
+
+Signals belong to this process: a worker ignores Ctrl-C (the terminal sends it to every process of the job; this
+process stops the workers), dies on SIGTERM and SIGHUP as a plain process does, and is killed by the system when
+this process ends, however it ends (``PR_SET_PDEATHSIG`` on Linux), so no worker outlives the run.
 """
 
 from __future__ import annotations
@@ -62,6 +66,31 @@ def heaviest_first(writers: Sequence[Writer]) -> list[int]:
     return sorted(range(len(writers)), key=lambda i: (-cost(i), i))
 
 
+def _worker_start(parent: int) -> None:
+    """Run first in every worker: the signal dispositions of a worker, and death with the parent."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    for name in ("SIGTERM", "SIGHUP"):
+        if hasattr(signal, name):
+            signal.signal(getattr(signal, name), signal.SIG_DFL)
+    _die_with_parent()
+    if os.getppid() != parent:  # the parent ended before the request above took effect
+        os._exit(1)
+
+
+def _die_with_parent() -> None:
+    """Ask Linux to kill this process when its parent ends (a no-op elsewhere or without libc)."""
+    try:
+        import ctypes
+        import signal
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)  # PR_SET_PDEATHSIG = 1
+    except (OSError, AttributeError, ImportError):
+        pass
+
+
 def _render_in_worker(index: int) -> bytes | None:
     """Render one document in a forked worker; None on any failure (the parent renders it again)."""
     try:
@@ -106,7 +135,8 @@ def _render_parallel(result, writers: Sequence[Writer], workers: int, report) ->
     _JOB = (result, writers)
     pool = None
     try:
-        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"))
+        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
+                                   initializer=_worker_start, initargs=(os.getpid(),))
         futures = {pool.submit(_render_in_worker, i): i for i in heaviest_first(writers)}
         report(0, len(writers), ", ".join(writers[i][0] for i in heaviest_first(writers)[:workers]))
         for future in as_completed(futures):

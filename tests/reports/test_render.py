@@ -93,3 +93,66 @@ def test_an_interruption_stops_the_workers_at_once() -> None:
         render_documents(plant(PARALLEL_MIN_BANKS), [("a.pdf", slow), ("b.pdf", slow), ("c.pdf", slow)], interrupt)
     assert time.perf_counter() - start < 10  # not the 60 s (or 3 × 60 s) the queued documents would take
     assert render._JOB is None
+
+
+CHILD = """
+import os, sys, time
+from types import SimpleNamespace
+from bankbuild.reports.render import render_documents
+
+def slow(result):
+    with open(sys.argv[1], "a") as handle:
+        handle.write(f"{os.getpid()}\\n")
+    time.sleep(60)
+    return b"never"
+
+render_documents(SimpleNamespace(banks=[1]), [("a.pdf", slow), ("b.pdf", slow)])
+"""
+
+
+def _alive(pid: int) -> bool:
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii") as handle:
+            return handle.read().rsplit(")", 1)[1].split()[0] != "Z"
+    except FileNotFoundError:
+        return False
+
+
+def _worker_pids(path, count: int, timeout_s: float = 30) -> list[int]:
+    import time
+
+    end = time.monotonic() + timeout_s
+    while time.monotonic() < end:
+        pids = [int(p) for p in path.read_text().split()] if path.exists() else []
+        if len(pids) >= count:
+            return pids
+        time.sleep(0.05)
+    raise AssertionError(f"workers did not start: {path.read_text() if path.exists() else ''}")
+
+
+@needs_workers
+@pytest.mark.skipif(not os.path.exists("/proc/self/stat"), reason="reads /proc")
+def test_workers_do_not_outlive_a_parent_killed_outright(tmp_path) -> None:
+    """SIGKILL gives the parent no chance to stop its workers: the system ends them (PR_SET_PDEATHSIG)."""
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    pids_file = tmp_path / "pids"
+    parent = subprocess.Popen([sys.executable, "-c", CHILD, str(pids_file)])
+    try:
+        workers = _worker_pids(pids_file, 2)
+        for pid in workers:  # a terminal's Ctrl-C reaches every process of the job: a worker leaves it to the parent
+            os.kill(pid, signal.SIGINT)
+        time.sleep(0.3)
+        assert all(_alive(p) for p in workers)
+        parent.kill()
+        parent.wait(timeout=30)
+        end = time.monotonic() + 10
+        while any(_alive(p) for p in workers) and time.monotonic() < end:
+            time.sleep(0.05)
+        assert not [p for p in workers if _alive(p)]
+    finally:
+        if parent.poll() is None:
+            parent.kill()
