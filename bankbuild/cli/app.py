@@ -15,7 +15,7 @@ import typer
 from bankbuild.errors import BankbuildError, OptionError
 
 app = typer.Typer(
-    name="bankbuild", add_completion=False, no_args_is_help=True, rich_markup_mode=None,
+    name="bankbuild", add_completion=True, no_args_is_help=True, rich_markup_mode=None,
     pretty_exceptions_enable=False,
     help="Size, protect and document low-voltage power-factor-correction capacitor banks.\n\n"
          "Start with 'bankbuild demo' or 'bankbuild init my-bank.yaml', then 'bankbuild size my-bank.yaml'.",
@@ -24,14 +24,66 @@ catalog_app = typer.Typer(no_args_is_help=True, rich_markup_mode=None,
                           help="Check the rating tables, or copy the built-in ones to edit.")
 app.add_typer(catalog_app, name="catalog")
 
+def _number(name: str):
+    """A parser for a number option that says what to write when the text is not one ('480V', '95%')."""
+
+    def parse(text: str) -> float:
+        try:
+            return float(text)
+        except ValueError:
+            from bankbuild.spec.read import number_hint
+
+            hint = number_hint(text, name, "option")
+            raise typer.BadParameter(f"got {text!r}" + (f": {hint}" if hint else "")) from None
+
+    return parse
+
+
+def _number_option(flag: str, help: str):
+    """A number option whose bad values are explained (see :func:`_number`)."""
+    return typer.Option(flag, parser=_number(flag[2:].replace("-", "_")), help=help)
+
+
 OutOpt = Annotated[Path | None, typer.Option("--out", help="Folder for the documents (created if missing); "
                                                           "default bankbuild-out, or none with --json.")]
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print the results as one JSON document on stdout.")]
+StrictOpt = Annotated[bool, typer.Option("--strict", help="Exit with code 1 when any check is flagged (bad input "
+                                                           "still exits with 2).")]
 CatOpt = Annotated[Path | None, typer.Option("--catalogs", help="Folder of rating tables that replace the "
                                                                 "built-in ones (overrides the spec's).")]
 
 
-def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Path | None, label: str) -> None:
+def _show_version(value: bool) -> None:
+    if value:
+        from bankbuild._version import __version__
+
+        typer.echo(f"bankbuild {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _root(version: Annotated[bool, typer.Option("--version", callback=_show_version, is_eager=True,
+                                                help="Print the version and stop.")] = False) -> None:
+    pass
+
+
+def _flagged(banks) -> list[str]:
+    """``bank: check`` for every check that is not met (``ok`` false), in the results' order."""
+    return [f"{bank.name}: {check.name}" for bank in banks for check in bank.checks if not check.ok]
+
+
+def _strict_exit(banks, strict: bool) -> None:
+    """With ``--strict``, a flagged check ends the run with exit code 1 (after the output is complete)."""
+    flagged = _flagged(banks) if strict else []
+    if flagged:
+        more = f" (and {len(flagged) - 1} more)" if len(flagged) > 1 else ""
+        typer.echo(f"bankbuild: {len(flagged)} check{'s' if len(flagged) > 1 else ''} flagged (--strict): "
+                   f"{_one_line(flagged[0], 200)}{more}", err=True)
+        raise typer.Exit(code=1)
+
+
+def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Path | None, label: str,
+              strict: bool = False) -> None:
     """Size, then write the documents: into ``out``, or ``bankbuild-out``; with ``--json`` only when ``--out``
     is given, so that the JSON of a large plant comes in seconds without rendering every PDF page."""
     from bankbuild.api import run_spec
@@ -50,27 +102,30 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
         typer.echo(project_json(result))
     else:
         typer.echo(project_summary(result, [str(p) for p in written]))
+    _strict_exit(result.banks, strict)
 
 
 @app.command()
 def size(spec: Annotated[Path, typer.Argument(help="The bank spec (YAML).")],
-         out: OutOpt = None, json: JsonOpt = False, catalogs: CatOpt = None) -> None:
+         out: OutOpt = None, json: JsonOpt = False, catalogs: CatOpt = None, strict: StrictOpt = False) -> None:
     """Size every bank in SPEC and write its documents.
+
+    Exit codes: 0 done; 1 with --strict when a check is flagged; 2 bad input (nothing written).
 
     Example: bankbuild size plant.yaml --out quote-2041
     """
-    _run_size(spec, out, json, catalogs, str(spec))
+    _run_size(spec, out, json, catalogs, str(spec), strict)
 
 
 @app.command()
-def demo(out: OutOpt = None, json: JsonOpt = False) -> None:
+def demo(out: OutOpt = None, json: JsonOpt = False, strict: StrictOpt = False) -> None:
     """Run the built-in demo plant (an invented site) and write its documents.
 
     Example: bankbuild demo --out demo-docs
     """
     from bankbuild.api import demo_spec_path
 
-    _run_size(demo_spec_path(), out, json, None, "demo.yaml (built-in)")
+    _run_size(demo_spec_path(), out, json, None, "demo.yaml (built-in)", strict)
 
 
 @app.command()
@@ -80,51 +135,85 @@ def init(path: Annotated[Path, typer.Argument(help="Where to write the starter s
 
     Example: bankbuild init line3.yaml
     """
-    from bankbuild.api import starter_spec_text
+    from bankbuild.api import SPEC_SCHEMA_FILE, spec_schema, starter_spec_text
 
     if path.exists() and not force:
         raise OptionError(str(path), "", "already exists; use --force to replace it")
     if path.exists() and path.is_dir():
         raise OptionError(str(path), "", "is a folder; give a file name")
+    schema_path = path.parent / SPEC_SCHEMA_FILE
     try:
         path.write_text(starter_spec_text(), encoding="utf-8")
+        wrote_schema = force or not schema_path.exists()
+        if wrote_schema:
+            schema_path.write_text(_dumps(spec_schema()) + "\n", encoding="utf-8")
     except OSError as exc:
         raise OptionError(str(path), "", f"cannot write ({exc.strerror or exc})") from None
     typer.echo(f"wrote {path}: edit it, then run 'bankbuild size {path}'")
+    if wrote_schema:
+        typer.echo(f"wrote {schema_path}: editors with YAML language support complete keys and underline typos "
+                   "from it (the spec's first line points to it)")
 
 
 @app.command()
-def kvar(kw: Annotated[float | None, typer.Option("--kw", help="Active power of the load [kW].")] = None,
-         pf_present: Annotated[float | None, typer.Option("--pf-present", help="Present power factor.")] = None,
-         pf_target: Annotated[float | None, typer.Option("--pf-target", help="Target power factor.")] = None,
+def schema(what: Annotated[str, typer.Argument(
+        help="spec (what you write), results (what 'size --json' prints) or rerate (what 'rerate --json' "
+             "prints).")] = "spec") -> None:
+    """Print a JSON Schema: of the spec (for editors), or of the results JSON.
+
+    Example: bankbuild schema > bankbuild.schema.json
+    """
+    from bankbuild.api import results_schema, spec_schema
+
+    if what == "spec":
+        typer.echo(_dumps(spec_schema()))
+    elif what in ("results", "rerate"):
+        typer.echo(_dumps(results_schema("size" if what == "results" else "rerate")))
+    else:
+        raise OptionError("", "WHAT", f"must be spec, results or rerate (got {what!r})")
+
+
+@app.command()
+def kvar(kw: Annotated[float | None, _number_option("--kw", help="Active power of the load [kW].")] = None,
+         pf_present: Annotated[float | None, _number_option("--pf-present", help="Present power factor.")] = None,
+         pf_target: Annotated[float | None, _number_option("--pf-target", help="Target power factor.")] = None,
          loads: Annotated[Path | None, typer.Option("--loads", help="YAML file with 'pf_target' and 'loads'.")]
          = None,
-         voltage_v: Annotated[float, typer.Option("--voltage-v", help="Supply line-to-line voltage [V].")] = 480.0,
-         frequency_hz: Annotated[float, typer.Option("--frequency-hz", help="Supply frequency [Hz].")] = 60.0,
+         voltage_v: Annotated[float | None, _number_option(
+             "--voltage-v", help="Supply line-to-line voltage [V]; 480 when not given (the output says so).")] = None,
+         frequency_hz: Annotated[float | None, _number_option(
+             "--frequency-hz", help="Supply frequency [Hz]; 60 when not given (the output says so).")] = None,
          json: JsonOpt = False) -> None:
     """Quick figure: kvar to correct a load, µF per leg, and line currents before and after.
 
     Example: bankbuild kvar --kw 250 --pf-present 0.72 --pf-target 0.96 --voltage-v 480
     """
-    from bankbuild.design.quick import kvar_figures, kvar_text
+    from bankbuild.api import kvar as quick_kvar
+    from bankbuild.design.quick import kvar_text
 
-    figures = kvar_figures(kw, pf_present, pf_target, loads, voltage_v, frequency_hz)
-    typer.echo(_dumps(figures) if json else kvar_text(figures))
+    figures = quick_kvar(kw, pf_present, pf_target, loads=loads, voltage_v=voltage_v, frequency_hz=frequency_hz)
+    if json:
+        typer.echo(_dumps(figures))
+        return
+    units = {"voltage_v": "V", "frequency_hz": "Hz"}
+    assumed = [f"{figures[name]:g} {units[name]} (no --{name.replace('_', '-')} given)" for name in figures["assumed"]]
+    typer.echo(kvar_text(figures) + (f"\nassumed         {', '.join(assumed)}" if assumed else ""))
 
 
 @app.command()
 def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing bank(s) (YAML).")],
-           voltage_v: Annotated[float, typer.Option("--voltage-v", help="New supply line-to-line voltage [V].")],
-           frequency_hz: Annotated[float | None, typer.Option(
+           voltage_v: Annotated[float, _number_option("--voltage-v", help="New supply line-to-line voltage [V].")],
+           frequency_hz: Annotated[float | None, _number_option(
                "--frequency-hz", help="New supply frequency [Hz]; default: each bank's own.")] = None,
            out: Annotated[Path | None, typer.Option(
-               "--out", help="Folder for rerate.json, rerate.txt and rerate-bom-difference.csv.")] = None,
-           json: JsonOpt = False, catalogs: CatOpt = None,
-           transformer_kva: Annotated[float | None, typer.Option(
+               "--out", help="Folder for rerate.json, rerate.txt and rerate-bom-difference.csv (created if "
+                             "missing); default bankbuild-out, or none with --json.")] = None,
+           json: JsonOpt = False, catalogs: CatOpt = None, strict: StrictOpt = False,
+           transformer_kva: Annotated[float | None, _number_option(
                "--transformer-kva", help="Transformer at the new supply [kVA]; default: the spec's.")] = None,
-           transformer_z_pct: Annotated[float | None, typer.Option(
+           transformer_z_pct: Annotated[float | None, _number_option(
                "--transformer-z-pct", help="Its impedance [%].")] = None,
-           source_sc_mva: Annotated[float | None, typer.Option(
+           source_sc_mva: Annotated[float | None, _number_option(
                "--source-sc-mva", help="Utility short-circuit level in series with it [MVA].")] = None) -> None:
     """Move each bank of SPEC to another supply: kvar (∝ V²·f), currents, capacitor voltage, system checks,
     which installed parts still fit, and a re-sized bank with the bill-of-materials difference.
@@ -133,10 +222,15 @@ def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing b
 
     Example: bankbuild rerate line3.yaml --voltage-v 415 --frequency-hz 50 --out moved
     """
-    from bankbuild.cli.rerate import run_rerate, transformer_option
+    from bankbuild.cli.rerate import run_rerate
 
-    site = transformer_option(transformer_kva, transformer_z_pct, source_sc_mva)
-    typer.echo(run_rerate(spec, voltage_v, frequency_hz, out, json, catalogs, site))
+    site = {"transformer_kva": transformer_kva, "transformer_z_pct": transformer_z_pct,
+            "source_sc_mva": source_sc_mva}
+    result, text = run_rerate(spec, voltage_v, frequency_hz, out, json, catalogs, site)
+    if frequency_hz is None and not json:
+        text += "\nassumed: each bank keeps its own supply frequency (no --frequency-hz given)"
+    typer.echo(text)
+    _strict_exit(result.banks, strict)
 
 
 @catalog_app.command("check")
@@ -154,14 +248,16 @@ def catalog_check(folder: Annotated[Path | None, typer.Argument(help="Folder of 
 
 
 @catalog_app.command("copy")
-def catalog_copy(folder: Annotated[Path, typer.Argument(help="Folder to copy the built-in tables into.")]) -> None:
+def catalog_copy(folder: Annotated[Path, typer.Argument(help="Folder to copy the built-in tables into.")],
+                 force: Annotated[bool, typer.Option("--force", help="Replace tables already in FOLDER.")]
+                 = False) -> None:
     """Copy the built-in rating tables into FOLDER so you can edit them.
 
     Example: bankbuild catalog copy my-tables
     """
-    from bankbuild.tables.load import copy_catalogs
+    from bankbuild.api import copy_tables
 
-    for path in copy_catalogs(folder):
+    for path in copy_tables(folder, force=force):
         typer.echo(f"wrote {path}")
     typer.echo(f"point a spec at it with 'catalogs: {folder}' or use --catalogs {folder}")
 
@@ -221,7 +317,9 @@ def run(argv: list[str] | None = None) -> int:
             typer.echo(ctx.get_help())
             return 0
         sub = ctx.command_path if ctx is not None else "bankbuild"
-        typer.echo(f"bankbuild: error: {_one_line(exc.format_message())} (see '{sub} --help')", err=True)
+        from bankbuild.cli.usage import usage_line
+
+        typer.echo(f"bankbuild: error: {_one_line(usage_line(exc))} (see '{sub} --help')", err=True)
         return getattr(exc, "exit_code", 2)
     except Abort:
         typer.echo("bankbuild: stopped", err=True)

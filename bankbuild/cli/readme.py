@@ -62,7 +62,7 @@ def readme_block(readme_text: str) -> str:
 def main() -> None:
     text = reference()
     if "--write" in sys.argv:
-        readme = Path(__file__).resolve().parent.parent / "README.md"
+        readme = Path(__file__).resolve().parents[2] / "README.md"
         old = readme.read_text(encoding="utf-8")
         head, rest = old.split(START, 1)
         tail = rest.split(END, 1)[1]

@@ -6,6 +6,7 @@ Frozen like the sizing results (:mod:`bankbuild.results.sizing`); the re-sized b
 
 from __future__ import annotations
 
+from bankbuild._version import __version__
 from bankbuild.results.base import Frozen
 from bankbuild.results.sizing import BankResult, Check, Provenance, UnitLine
 
@@ -77,6 +78,7 @@ class RerateBank(Frozen):
 
 
 class RerateResult(Frozen):
+    version: str = __version__  # the bankbuild version that wrote the results
     project: dict[str, str]
     provenance: Provenance
     voltage_v: float

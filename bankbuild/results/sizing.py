@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from pydantic import model_serializer
 
+from bankbuild._version import __version__
+from bankbuild.results import frames
 from bankbuild.results.base import Frozen
 from bankbuild.results.harmonics import HarmonicStudy
 
@@ -396,6 +398,11 @@ class BankResult(Frozen):
             data.pop("harmonics", None)
         return data
 
+    def to_frame(self, view: str = "steps"):
+        """A pandas DataFrame of this bank: ``steps``, ``checks``, ``protection`` (the worksheet's sizing lines of
+        every circuit) or ``bom`` (the bank's bill of materials). pandas is imported on the first call."""
+        return frames.to_frame(frames.bank_rows(self, view), view)
+
 
 class TableUsed(Frozen):
     file_name: str
@@ -413,8 +420,19 @@ class Provenance(Frozen):
 
 
 class ProjectResult(Frozen):
+    """Every bank of a spec sized, with the project's merged bill of materials and the provenance.
+
+    ``version`` is the bankbuild version that wrote the results (the JSON's first key).
+    """
+
+    version: str = __version__
     project: dict[str, str]
     provenance: Provenance
     banks: list[BankResult]
     cautions: list[str]
     bom: list[BomLine] = []
+
+    def to_frame(self, view: str = "steps"):
+        """A pandas DataFrame over every bank (a ``bank`` column first): ``steps``, ``checks``, ``protection``;
+        or ``bom``, the project's merged bill of materials."""
+        return frames.to_frame(frames.project_rows(self, view), view)

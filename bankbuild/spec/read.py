@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import functools
 import hashlib
+import re
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -33,6 +34,41 @@ def read_spec(path: str | Path) -> SpecFile:
     spec = validate_spec(data, where)
     return SpecFile(spec=spec, path=where, sha256=hashlib.sha256(raw).hexdigest(),
                     base_dir=Path(path).resolve().parent)
+
+
+def read_spec_text(text: str, where: str = "<spec text>", base_dir: Path | None = None) -> SpecFile:
+    """Parse and validate a spec given as YAML text (a notebook cell, a string built by a script).
+
+    ``where`` names it in error messages; a ``catalogs:`` folder in it is taken relative to ``base_dir``
+    (default: the working folder).
+    """
+    raw = text.encode("utf-8")
+    if len(raw) > MAX_SPEC_BYTES:
+        raise SpecError(where, "", f"text is {len(raw):,} bytes; a spec may be at most {MAX_SPEC_BYTES:,} bytes")
+    data = parse_yaml(raw, where)
+    spec = validate_spec(data, where)
+    return SpecFile(spec=spec, path=where, sha256=hashlib.sha256(raw).hexdigest(),
+                    base_dir=(base_dir or Path.cwd()).resolve())
+
+
+def read_spec_data(data: Any, where: str = "<spec dict>", base_dir: Path | None = None) -> SpecFile:
+    """Validate a spec given as a plain mapping (what ``yaml.safe_load`` or ``json.load`` returns).
+
+    The same checks as a file's apply (text without control characters, keys that are words); the hash is
+    that of the mapping's canonical JSON form.
+    """
+    import json
+
+    if not isinstance(data, dict):
+        raise SpecError(where, "", f"the top level must be a mapping of keys, not {type(data).__name__}")
+    _check_text(data, where)
+    spec = validate_spec(data, where)
+    try:
+        canonical = json.dumps(data, sort_keys=True, ensure_ascii=False, default=str).encode("utf-8")
+    except (TypeError, ValueError):
+        canonical = repr(data).encode("utf-8")
+    return SpecFile(spec=spec, path=where, sha256=hashlib.sha256(canonical).hexdigest(),
+                    base_dir=(base_dir or Path.cwd()).resolve())
 
 
 def _read_bytes(path: Path, where: str) -> bytes:
@@ -269,6 +305,7 @@ def field_path(loc: tuple, data: Any = None) -> str:
 
 def _message(error: dict) -> str:
     kind = error.get("type", "")
+    key = next((part for part in reversed(error.get("loc", ())) if isinstance(part, str)), "")
     msg = error.get("msg", "invalid value")
     value = error.get("input")
     if kind == "extra_forbidden":
@@ -287,6 +324,10 @@ def _message(error: dict) -> str:
         return f"text of {len(value):,} characters; at most {limit} are allowed"
     if kind in ("too_short", "too_long"):  # "List should have at least 1 item after validation, not 0"
         return f"{msg[0].lower()}{msg[1:]}".replace(" after validation, not ", " (got ") + ")"
+    if kind in ("float_type", "int_type") and isinstance(value, str) and not _is_number(value):
+        hint = number_hint(value, key)
+        if hint:
+            return f"must be a number (got {shown}: {hint})"
     if kind in ("float_type", "int_type") and isinstance(value, str) and _is_number(value):
         hint = ("YAML reads this exponent form as text: write the number out, or with a point and a signed "
                 "exponent like 1.0e+3" if "e" in value.lower()
@@ -295,6 +336,47 @@ def _message(error: dict) -> str:
     if kind.endswith("_type") or kind.startswith(("greater", "less", "literal", "int_", "float_")):
         return f"{msg[0].lower()}{msg[1:]} (got {shown})"
     return msg
+
+
+FRACTION_KEYS = frozenset({"pf", "pf_present", "pf_target", "efficiency", "full_load_pf", "no_load_pf",
+                           "busbar_derating"})
+"""Keys (and options) that take a fraction of one, not a percentage."""
+
+_NUMBER_AND_UNIT = re.compile(r"\s*([-+]?(?:\d+(?:[.,]\d*)?|[.,]\d+))\s*([^\d\s.,+-].*?)\s*")
+
+
+def number_hint(text: str, name: str = "", what: str = "key") -> str | None:
+    """Why a text is not a number and what to write instead, or None when it is nothing like one.
+
+    ``name`` is the key (or option) it was given for; ``what`` says which ("key" or "option").
+
+    >>> number_hint("480V", "voltage_v")
+    'write 480; the unit is in the key name'
+    >>> number_hint("95%", "pf_target", "option")
+    'write 0.95; a power factor is a fraction of one'
+    >>> number_hint("0,95", "pf")
+    'write 0.95, with a decimal point'
+    >>> number_hint("fast") is None
+    True
+    """
+    comma = re.fullmatch(r"\s*([-+]?\d+),(\d+)\s*", text)
+    if comma:
+        return f"write {comma.group(1)}.{comma.group(2)}, with a decimal point"
+    match = _NUMBER_AND_UNIT.fullmatch(text)
+    if match is None:
+        return None
+    number, unit = match.group(1), match.group(2)
+    if "," in number:
+        return f"write {number.replace(',', '.')}, with a decimal point"
+    value = float(number)
+    if unit.strip() == "%" and name.split(".")[-1] in FRACTION_KEYS:
+        kind = "an efficiency" if "efficiency" in name else "a power factor"
+        return f"write {value / 100:g}; {kind} is a fraction of one"
+    if unit.strip() == "%" and not name.endswith("_pct"):
+        return None
+    if unit.strip().lower() == "kv" and name.endswith("_v"):
+        return f"write {value * 1000:g} (volts); the unit is in the {what} name"
+    return f"write {value:g}; the unit is in the {what} name"
 
 
 def _is_number(text: str) -> bool:

@@ -327,11 +327,11 @@ def check_catalogs(directory: str | Path) -> tuple[TableInfo, ...]:
     return tuple(_read_table(t, folder / t.file_name)[0] for t in _known_files(folder))
 
 
-def copy_catalogs(dest: str | Path) -> list[Path]:
+def copy_catalogs(dest: str | Path, force: bool = False) -> list[Path]:
     """Copy the built-in tables into ``dest`` (created if needed) to edit them there.
 
-    Existing files are never overwritten: if any table file is already in ``dest``, nothing is copied and a
-    :class:`CatalogError` names it.
+    Existing files are overwritten only with ``force``: otherwise, if any table file is already in ``dest``,
+    nothing is copied and a :class:`CatalogError` names it.
 
     Returns
     -------
@@ -343,8 +343,10 @@ def copy_catalogs(dest: str | Path) -> list[Path]:
         raise CatalogError(str(folder), "", "not a folder")
     targets = [(builtin_dir() / t.file_name, folder / t.file_name) for t in TABLES]
     for _, target in targets:
-        if target.exists():
-            problem = "already exists; not overwritten (move it away or choose another folder)"
+        if target.is_dir() or (target.exists() and not force):
+            problem = ("is a folder; move it away" if target.is_dir() else
+                       "already exists; not overwritten (use --force to replace the tables, or choose another "
+                       "folder)")
             raise CatalogError(str(target), "", problem)
     try:
         folder.mkdir(parents=True, exist_ok=True)

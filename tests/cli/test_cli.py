@@ -160,7 +160,10 @@ def test_init_writes_a_spec_that_size_accepts(capsys, tmp_path):
     path = tmp_path / "new.yaml"
     code, out, _ = cli(capsys, "init", path)
     assert code == 0
-    assert out == f"wrote {path}: edit it, then run 'bankbuild size {path}'\n"
+    assert out.startswith(f"wrote {path}: edit it, then run 'bankbuild size {path}'\n")
+    schema = json.loads((tmp_path / "bankbuild.schema.json").read_text(encoding="utf-8"))
+    assert path.read_text(encoding="utf-8").splitlines()[0] == "# yaml-language-server: $schema=bankbuild.schema.json"
+    assert schema["title"] == "bankbuild spec" and "banks" in schema["properties"]
     code, out, err = cli(capsys, "size", path, "--out", tmp_path / "docs", "--json")
     assert (code, err) == (0, "")
     assert json.loads(out)["banks"][0]["name"] == "Main bank"
@@ -174,7 +177,7 @@ def test_init_keeps_an_existing_file(capsys, tmp_path):
     assert err == f"bankbuild: error: {path}: already exists; use --force to replace it\n"
     assert path.read_text(encoding="utf-8") == "mine\n"
     assert cli(capsys, "init", path, "--force")[0] == 0
-    assert path.read_text(encoding="utf-8").startswith("# bankbuild spec")
+    assert path.read_text(encoding="utf-8").splitlines()[1].startswith("# bankbuild spec")
 
 
 # --- kvar -------------------------------------------------------------------------------------------------------
@@ -188,7 +191,8 @@ def test_kvar_text(capsys):
         "load            250.0 kW, 241.0 kvar, PF 0.720\n"
         "correction      168.0 kvar to reach PF 0.960 (multiplier tan φ1 − tan φ2 = 0.672)\n"
         "at 480 V, 60 Hz: 644.9 µF per leg in delta, 1,934.7 µF per leg in wye\n"
-        "currents        capacitor 202.1 A; line 417.6 A before, 313.2 A after\n")
+        "currents        capacitor 202.1 A; line 417.6 A before, 313.2 A after\n"
+        "assumed         480 V (no --voltage-v given), 60 Hz (no --frequency-hz given)\n")
 
 
 def test_kvar_json(capsys):
@@ -269,15 +273,22 @@ def bad_input_cases(tmp_path: Path) -> list[tuple[list, str]]:
          "non_monotonic"),
         (["size", SPECS / "line3_300kvar.yaml", "--out", out, "--catalogs", tmp_path / "nowhere"], "nowhere"),
         (["size", SPECS / "line3_300kvar.yaml", "--out", a_file], "a_file: --out: "),
-        (["size", SPECS / "line3_300kvar.yaml", "--out", out, "--bogus"], "No such option: --bogus"),
-        (["size", "--out", out], "Missing argument"),
-        (["kvar", "--kw", "abc", "--pf-present", "0.8", "--pf-target", "0.9"], "Invalid value for '--kw'"),
+        (["size", SPECS / "line3_300kvar.yaml", "--out", out, "--bogus"], "--bogus: unknown option"),
+        (["size", "--out", out], "SPEC: required argument is missing"),
+        (["kvar", "--kw", "abc", "--pf-present", "0.8", "--pf-target", "0.9"], "--kw: must be a number (got 'abc')"),
         (["kvar", "--kw", "100", "--pf-present", "0.9", "--pf-target", "0.8"], "--pf-target: 0.8 is below"),
         (["kvar", "--kw", "100", "--pf-present", "0.8", "--pf-target", "0.9", "--voltage-v", "-1"],
          "--voltage-v: must be in"),
         (["kvar", "--kw", "100", "--pf-present", "0.8", "--pf-target", "0.9", "--loads", tmp_path / "none.yaml"],
          "--loads: give either --loads or --kw"),
-        (["frobnicate"], "No such command 'frobnicate'"),
+        (["frobnicate"], "frobnicate: unknown command; the commands are catalog, demo"),
+        (["sise", "x.yaml"], "sise: unknown command; did you mean size?"),
+        (["kvar", "--kw", "250kW"], "--kw: must be a number (got '250kW': write 250; the unit is in the option name)"),
+        (["kvar", "--pf-present", "78%"], "--pf-present: must be a number (got '78%': write 0.78; a power factor is a "
+                                          "fraction of one)"),
+        (["rerate", SPECS / "line3_300kvar.yaml", "--voltage-v", "0.4kV"], "write 400 (volts)"),
+        (["size", "--jsn"], "--jsn: unknown option; did you mean --json?"),
+        (["schema", "nothing"], "WHAT: must be spec, results or rerate"),
         (["catalog", "check", tmp_path / "nowhere"], "nowhere"),
     ]
 
