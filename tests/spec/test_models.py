@@ -204,7 +204,7 @@ def test_supply_with_transformer(make_bank):
     ({"steps": "four"}, "steps", "a list of kvar per step"),
     ({"detuning_pct": 0}, "detuning_pct", "greater than 0"),
     ({"detuning_pct": 25}, "detuning_pct", "less than 20"),
-    ({"detuning_pct": "7%"}, "detuning_pct", "valid number (got '7%')"),
+    ({"detuning_pct": "7%"}, "detuning_pct", "must be a number (got '7%': write 7; the unit is in the key name)"),
     ({"capacitor_voltage_v": "525"}, "capacitor_voltage_v", "valid number"),
     ({"voltage_margin_pct": -5}, "voltage_margin_pct", "greater than or equal to 0"),
     ({"protection": {"device": "relay"}}, "protection.device", "'fuse' or 'breaker' (got 'relay')"),
