@@ -124,10 +124,11 @@ def _tables_stay_inside(spec_file, folder: Path, base: Path) -> None:
 
 
 def _tables_for(spec_file, catalogs_dir: str | os.PathLike | None):
+    """The tables the spec sizes with and its rule basis (a user's copy beside those tables wins)."""
     from bankbuild.tables.load import load_catalogs
 
     folder = Path(catalogs_dir) if catalogs_dir is not None else spec_catalogs_dir(spec_file)
-    return load_catalogs(folder)
+    return load_catalogs(folder), spec_rule_basis(spec_file, folder)
 
 
 def size(spec: SpecSource, *, catalogs_dir: str | os.PathLike | None = None, on_bank=None) -> ProjectResult:
@@ -156,14 +157,40 @@ def size(spec: SpecSource, *, catalogs_dir: str | os.PathLike | None = None, on_
     from bankbuild.design.sizing import size_project
 
     spec_file = load_spec(spec)
-    tables = _tables_for(spec_file, catalogs_dir)
+    tables, basis = _tables_for(spec_file, catalogs_dir)
     return size_project(spec_file.spec, tables, spec_path=spec_file.path, spec_sha256=spec_file.sha256,
-                        on_bank=on_bank)
+                        on_bank=on_bank, basis=basis)
 
 
 def demo() -> ProjectResult:
     """Size the built-in demo plant (an invented site)."""
     return run_spec(demo_spec_path(), label="demo.yaml (built-in)")
+
+
+def spec_rule_basis(spec_file, tables_dir: Path | None = None):
+    """The rule basis the spec names: a rule-basis file beside the spec (kept inside its folder), a user's copy of
+    a built-in basis in the tables folder (``rules-nec-2023.yaml`` … as ``catalog copy`` writes them), or the
+    built-in file. Every problem names the file, the field and what is wrong."""
+    from bankbuild.tables.rulebasis import BUILTIN, builtin_rule_basis, read_rule_basis
+
+    spec = spec_file.spec
+    value = spec.rules_file
+    if value is not None:
+        base = spec_file.base_dir
+        try:
+            target = (base / value).resolve()
+        except (OSError, ValueError) as exc:
+            raise SpecError(spec_file.path, "rules", f"not a usable file name ({exc})") from None
+        if Path(value).is_absolute() or not target.is_relative_to(base):
+            raise SpecError(spec_file.path, "rules", f"{value!r} points outside the spec's folder; keep the "
+                                                     "rule-basis file beside the spec")
+        if not target.is_file():
+            raise SpecError(spec_file.path, "rules", f"rule-basis file {value!r} not found (looked for {target})")
+        return read_rule_basis(target)
+    key = f"nec-{spec.nec_edition}" if spec.rules == "nec" else spec.rules
+    if tables_dir is not None and (Path(tables_dir) / BUILTIN[key]).exists():
+        return read_rule_basis(Path(tables_dir) / BUILTIN[key])
+    return builtin_rule_basis(spec.rules, spec.nec_edition)
 
 
 def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | None = None, on_bank=None):
@@ -176,9 +203,9 @@ def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | Non
     from bankbuild.spec.read import read_spec
 
     spec_file = read_spec(spec_path)
-    tables = _tables_for(spec_file, catalogs_dir)
+    tables, basis = _tables_for(spec_file, catalogs_dir)
     return size_project(spec_file.spec, tables, spec_path=label or spec_file.path,
-                        spec_sha256=spec_file.sha256, on_bank=on_bank)
+                        spec_sha256=spec_file.sha256, on_bank=on_bank, basis=basis)
 
 
 def _in_range(name: str, value: float | None, unit: str) -> None:
@@ -235,9 +262,10 @@ def rerate(spec: SpecSource, voltage_v: float, frequency_hz: float | None = None
     _in_range("frequency_hz", frequency_hz, "Hz")
     site = transformer_option(transformer_kva, transformer_z_pct, source_sc_mva)
     spec_file = load_spec(spec)
-    tables = _tables_for(spec_file, catalogs_dir)
+    tables, basis = _tables_for(spec_file, catalogs_dir)
     return rerate_project(spec_file.spec, tables, float(voltage_v), None if frequency_hz is None
-                          else float(frequency_hz), site, spec_path=spec_file.path, spec_sha256=spec_file.sha256)
+                          else float(frequency_hz), site, spec_path=spec_file.path, spec_sha256=spec_file.sha256,
+                          basis=basis)
 
 
 def kvar(kw: float | None = None, pf_present: float | None = None, pf_target: float | None = None, *,

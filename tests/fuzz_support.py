@@ -19,6 +19,7 @@ from bankbuild.reports.jsonout import project_json
 from bankbuild.spec.model import Protection
 from bankbuild.spec.read import validate_spec
 from bankbuild.tables.load import load_catalogs
+from bankbuild.tables.rulebasis import builtin_rule_basis
 
 EPS = 1e-6
 SQRT3 = math.sqrt(3)
@@ -168,7 +169,8 @@ def check_invariants(data: dict, result, catalogs) -> None:
     rules = data.get("rules", "nec")
     for spec_bank, bank in zip(data["banks"], doc["banks"], strict=True):
         prot = Protection.model_validate(spec_bank.get("protection", {}))
-        device_factor = prot.effective_device_factor()
+        mult = builtin_rule_basis(rules, data.get("nec_edition", 2023)).rules.multipliers  # the basis's defaults
+        device_factor = prot.device_factor or getattr(mult, prot.device).factor
         standard = _standard(catalogs, rules, prot.device)
         unit_ids = {u.unit_id for u in catalogs.capacitor_units}
         v_r, v_s = bank["capacitor_voltage_v"], bank["supply_voltage_v"]
@@ -203,11 +205,13 @@ def check_invariants(data: dict, result, catalogs) -> None:
                 assert _failed(bank, label), (label, bank["checks"])
             ampacity = circuit["conductor_ampacity_a"]
             if circuit["conductor"] != "none":
-                assert ampacity >= prot.conductor_factor * current_a * (1 - EPS), (label, ampacity, current_a)
+                factor = prot.conductor_factor or mult.conductor.factor
+                assert ampacity >= factor * current_a * (1 - EPS), (label, ampacity, current_a)
             else:
                 assert _failed(bank, label, "conductor"), (label, bank["checks"])
         if main["disconnect_rating_a"]:
-            assert main["disconnect_rating_a"] >= prot.disconnect_factor * max(rated_total, line_total) * (1 - EPS)
+            factor = prot.disconnect_factor or mult.disconnect.factor
+            assert main["disconnect_rating_a"] >= factor * max(rated_total, line_total) * (1 - EPS)
         else:
             assert _failed(bank, "disconnect")
 

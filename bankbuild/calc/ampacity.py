@@ -5,13 +5,12 @@ Pure arithmetic on floats and small tuples; the tables themselves come from the 
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from dataclasses import dataclass
 
 EPS = 1e-6
 
 
-def step_factor(rows: Sequence[tuple[float, float]], value: float) -> float | None:
+def step_factor(rows: list[tuple[float, float]], value: float) -> float | None:
     """The factor of the first ``(up_to, factor)`` row whose ``up_to`` reaches ``value``; ``None`` beyond.
 
     Correction tables are printed as ranges ("31–35 °C: 0.94"); a row ``(35, 0.94)`` stands for the range
@@ -19,7 +18,7 @@ def step_factor(rows: Sequence[tuple[float, float]], value: float) -> float | No
 
     Parameters
     ----------
-    rows : sequence of (float, float)
+    rows : list of (float, float)
         Rows in rising order of ``up_to`` (an ambient in °C or a count).
     value : float
         The ambient [°C] or the count [-].
@@ -54,7 +53,7 @@ def corrected_ampacity_a(table_a: float, ambient_factor: float, grouping_factor:
     return round(sets * table_a * ambient_factor * grouping_factor, 6)
 
 
-def is_standard_rating(value_a: float, ratings_a: Sequence[float]) -> bool:
+def is_standard_rating(value_a: float, ratings_a: list[float]) -> bool:
     """Whether ``value_a`` equals one of the standard ratings (to a millionth of an ampere).
 
     >>> is_standard_rating(175.0, [150, 175, 200]), is_standard_rating(174.3, [150, 175, 200])
@@ -63,7 +62,7 @@ def is_standard_rating(value_a: float, ratings_a: Sequence[float]) -> bool:
     return any(abs(value_a - r) <= EPS for r in ratings_a)
 
 
-def next_rating_above(value_a: float, ratings_a: Sequence[float]) -> float | None:
+def next_rating_above(value_a: float, ratings_a: list[float]) -> float | None:
     """The smallest standard rating strictly above ``value_a``; ``None`` when none is.
 
     >>> next_rating_above(174.3, [150, 175, 200]), next_rating_above(175.0, [150, 175, 200])
@@ -82,7 +81,7 @@ class NextSizeUp:
     reason: str
 
 
-def next_size_up(device_a: float, ampacity_a: float, ratings_a: Sequence[float], max_a: float) -> NextSizeUp:
+def next_size_up(device_a: float, ampacity_a: float, ratings_a: list[float], max_a: float) -> NextSizeUp:
     """NEC 240.4(B)/(C): may a device of ``device_a`` protect a conductor of ``ampacity_a``?
 
     Parameters
@@ -91,7 +90,7 @@ def next_size_up(device_a: float, ampacity_a: float, ratings_a: Sequence[float],
         Rating of the protective device [A].
     ampacity_a : float
         Conductor ampacity after every correction and the termination limit [A].
-    ratings_a : sequence of float
+    ratings_a : list of float
         The standard ratings (NEC 240.6(A)) of the device kind [A].
     max_a : float
         The largest device the allowance covers (800 A in NEC 240.4(B)(3)) [A].

@@ -157,6 +157,45 @@ def voltage_rise_pct(reactive_kvar: float, transformer_kva: float, z_pct: float)
     return reactive_kvar * z_pct / transformer_kva
 
 
+def voltage_rise_sc_pct(reactive_kvar: float, short_circuit_mva: float) -> float:
+    """Voltage rise at the bank from its kvar and the short-circuit power at the bank.
+
+    Parameters
+    ----------
+    reactive_kvar : float
+        Capacitor kvar in service [kvar]
+    short_circuit_mva : float
+        Short-circuit power at the bank: the transformer, with the utility source in series when known [MVA]
+
+    Returns
+    -------
+    float
+        Voltage rise [%]
+
+    Notes
+    -----
+    ΔV% ≈ 100 · Q_c / S_sc. With the transformer alone S_sc = kVA_tx·100/Z%, and this is Q_c·Z%/kVA_tx; the
+    source's own impedance in series lowers S_sc and raises the rise.
+
+    Examples
+    --------
+    300 kvar on a 1000 kVA, 5.75 % transformer (17.39 MVA): 1.725 %; with a 250 MVA source in series
+    (16.26 MVA): 1.845 %.
+
+    >>> round(voltage_rise_sc_pct(300.0, transformer_sc_mva(1000.0, 5.75)), 3)
+    1.725
+    >>> round(voltage_rise_sc_pct(300.0, short_circuit_mva(1000.0, 5.75, 250.0)), 3)
+    1.845
+
+    References
+    ----------
+    .. [1] IEEE Std 1036-2010, voltage rise due to shunt capacitors (clause from memory).
+    """
+    _finite_nonneg("reactive_kvar", reactive_kvar)
+    _finite_pos("short_circuit_mva", short_circuit_mva)
+    return 100.0 * reactive_kvar / (1000.0 * short_circuit_mva)
+
+
 def short_circuit_current_a(short_circuit_mva: float, voltage_v: float) -> float:
     """Symmetrical three-phase short-circuit current.
 

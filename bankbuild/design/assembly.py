@@ -147,7 +147,7 @@ def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankR
     basis_a, basis_text = ct_basis(opts.ct_load_current_a, result.transformer_kva, load_kva, v_s)
     coils = tuple(s.switching.coil_sealed_va for s in steps if s.switching)
     base_lines = _part_losses(steps, result, catalogs)
-    busbar_required = bank.protection.conductor_factor * result.main.design_current_a
+    busbar_required = ctx.conductor_factor * result.main.design_current_a
     fans_va = 0.0
     for _ in range(6):  # the fans feed from the control circuit, whose losses the fans carry away
         control, control_checks = control_circuit(ControlInputs(
@@ -263,7 +263,7 @@ def _inrush_summary(steps, caps, reactors_uh, voltage_v, inter_uh, source_uh, is
 
 def _reconnection(steps, result: BankResult, bank: Bank, catalogs) -> Reconnection:
     rows = {u.unit_id: u for u in catalogs.capacitor_units}
-    leg_v = cap.leg_voltage_v(result.capacitor_voltage_v, bank.connection)
+    leg_v = cap.leg_voltage_v(result.capacitor_voltage_v, result.unit_connection)
     worst = (0.0, 0.0, 0.0, 0.0)
     for s in steps:
         for u in s.units:

@@ -26,10 +26,6 @@ from bankbuild.results.sizing import (
     VoltageStress,
 )
 
-IEEE18_VOLTAGE_PU = 1.10  # IEEE Std 18: continuous, 110 % of rated rms voltage
-IEEE18_KVAR_PU = 1.35  # IEEE Std 18: 135 % of rated kvar
-IEEE18_CURRENT_PU = 1.35  # IEEE Std 18-2002 and later: 135 % of rated rms current (180 % in 1992)
-IEC_CURRENT_PU = 1.30  # IEC 60831-1: maximum permissible current 1.3 I_N
 IEC_VOLTAGE_CLASSES = (  # IEC 60831-1 maximum permissible voltages (from memory)
     (1.00, "continuous"), (1.10, "8 h in every 24 h"), (1.15, "30 min in every 24 h"), (1.20, "5 min"),
     (1.30, "1 min"))
@@ -51,58 +47,96 @@ def iec_duration(voltage_pu: float) -> str:
     return "not permitted"
 
 
+def _limits(basis):
+    """The capacitor voltage and current limits of a rule basis (the built-in NEC basis when none is given)."""
+    if basis is None:
+        from bankbuild.tables.rulebasis import builtin_rule_basis
+
+        basis = builtin_rule_basis("nec").rules
+    return basis.voltage_limits
+
+
+def short_time_allowance(voltage_pu: float, limits) -> tuple[float | None, str]:
+    """The smallest short-time allowance of ``limits`` that covers ``voltage_pu``: (pu, duration), or (None, "").
+
+    >>> from types import SimpleNamespace as N
+    >>> lim = N(short_time=[N(pu=1.10, duration="8 h in every 24 h"), N(pu=1.15, duration="30 min in every 24 h")])
+    >>> short_time_allowance(1.06, lim), short_time_allowance(1.2, lim)
+    ((1.1, '8 h in every 24 h'), (None, ''))
+    """
+    for allowance in limits.short_time:
+        if voltage_pu <= allowance.pu + EPS:
+            return allowance.pu, allowance.duration
+    return None, ""
+
+
 def voltage_stress(v_s: float, f_s: float, v_r: float, f_r: float, p: float, rise_pct: float | None,
-                   delivered_kvar: float, rated_kvar: float) -> VoltageStress:
+                   delivered_kvar: float, rated_kvar: float, basis=None) -> VoltageStress:
     """Voltage, current and kvar of the units relative to their rating, at the supply and at light load.
+
+    The verdicts use the rule basis's limits (``basis``; default the built-in NEC basis, IEEE Std 18): the
+    capacitor voltage at the supply must be within the continuous limit; the light-load voltage (hours a day)
+    within the basis's light-load limit (IEC 60831-1: 1.10 U_N for 8 h in 24 h; otherwise the continuous limit).
+    ``ok`` is both, the one verdict every output uses; ``short_time_pu`` names the allowance the light-load
+    voltage falls in, for the text.
 
     >>> s = voltage_stress(480.0, 60.0, 480.0, 60.0, 0.0, 1.2, 100.0, 100.0)
     >>> round(s.light_load_voltage_v, 2), round(s.kvar_pu, 4), s.ok
     (485.76, 1.0241, True)
     """
+    limits = _limits(basis)
     v_c = det.capacitor_voltage_v(v_s, p) if p else v_s
     v_ll = v_c * (1.0 + (rise_pct or 0.0) / 100.0)
     pu = v_ll / v_r
+    continuous_ok = v_c <= limits.continuous_pu * v_r + EPS
+    short_pu, duration = (None, "") if pu <= limits.continuous_pu + EPS else short_time_allowance(pu, limits)
+    light_ok = pu <= limits.light_load_limit_pu + EPS
     return VoltageStress(
         rated_voltage_v=v_r, rated_frequency_hz=f_r, capacitor_voltage_v=v_c, light_load_voltage_v=v_ll,
         voltage_pu=pu, current_pu=pu * f_s / f_r, kvar_pu=pu**2 * f_s / f_r,
         utilisation_pu=delivered_kvar / rated_kvar if rated_kvar > 0 else 0.0, iec_duration=iec_duration(pu),
-        ok=v_c <= IEEE18_VOLTAGE_PU * v_r + EPS and v_ll <= IEEE18_VOLTAGE_PU * v_r + EPS)
+        continuous_limit_pu=limits.continuous_pu, short_time_pu=short_pu, short_time_duration=duration,
+        continuous_ok=continuous_ok, light_load_ok=light_ok, ok=continuous_ok and light_ok)
 
 
 def voltage_checks(stress: VoltageStress, rules: str, v_s: float, p: float, rise_pct: float | None,
-                   total_kvar: float) -> list[Check]:
-    """The capacitor-voltage, current/kvar and under-voltage checks of one bank."""
+                   total_kvar: float, basis=None) -> list[Check]:
+    """The capacitor-voltage, current/kvar and under-voltage checks of one bank, on the rule basis's limits.
+
+    The voltage checks carry exactly the verdicts of ``stress`` (one verdict per fact in every output).
+    """
+    limits = _limits(basis)
     v_r, f_r = stress.rated_voltage_v, stress.rated_frequency_hz
-    limit_rule = ("IEEE 18: ≤ 110% of rated rms voltage, continuous" if rules == "nec"
-                  else "IEC 60831-1: 1.10 U_N for 8 h in 24 h (from memory)")
     seen = f"{v_s:g} V / (1 − {p:g})" if p else "the supply"
     checks = [Check(
-        name="Capacitor voltage", ok=stress.capacitor_voltage_v <= IEEE18_VOLTAGE_PU * v_r + EPS, rule=limit_rule,
+        name="Capacitor voltage", ok=stress.continuous_ok, rule=limits.clause,
         detail=f"units rated {v_r:g} V, {f_r:g} Hz see {stress.capacitor_voltage_v:.0f} V ({seen}) = "
-               f"{stress.capacitor_voltage_v / v_r:.1%} of rating; limit 110%")]
+               f"{stress.capacitor_voltage_v / v_r:.1%} of rating, continuously; limit "
+               f"{limits.continuous_pu:.0%}")]
     if rise_pct is not None:
         pu = stress.voltage_pu
-        if rules == "iec":
-            extra = f"; IEC 60831-1 allows {pu:.2f} U_N for {stress.iec_duration} (from memory)"
-        elif pu > IEEE18_VOLTAGE_PU + EPS:
-            extra = "; IEEE 1036 short-time capability: 1.25 pu for 30 min, 1.3 pu for 1 min"
+        if pu <= limits.continuous_pu + EPS:
+            extra = f"; within the continuous limit {limits.continuous_pu:.0%}"
+        elif stress.light_load_ok:
+            extra = f"; above the continuous {limits.continuous_pu:.0%}: {limits.light_load_text}"
         else:
-            extra = ""
+            extra = f"; above the {limits.light_load_limit_pu:.0%} allowed for hours a day"
+            if stress.short_time_pu is not None:
+                extra += (f" ({stress.short_time_pu:.0%} is allowed only {stress.short_time_duration}, "
+                          f"{limits.short_time_clause})")
         checks.append(Check(
-            name="Capacitor voltage at light load", ok=pu <= IEEE18_VOLTAGE_PU + EPS, rule=limit_rule,
+            name="Capacitor voltage at light load", ok=stress.light_load_ok,
+            rule=limits.clause + (f"; {limits.short_time_clause}" if limits.short_time_clause else ""),
             detail=f"+{rise_pct:.2f}% rise with all {total_kvar:.0f} kvar on at light load: "
                    f"{stress.light_load_voltage_v:.0f} V = {pu:.1%} of {v_r:g} V{extra}"))
     freq = f" and {stress.rated_frequency_hz:g} Hz units run at other than rated frequency" \
         if abs(stress.current_pu / stress.voltage_pu - 1.0) > 1e-9 else ""
-    if rules == "nec":
-        ok = stress.kvar_pu <= IEEE18_KVAR_PU + EPS and stress.current_pu <= IEEE18_CURRENT_PU + EPS
-        rule = "IEEE 18: ≤ 135% of rated kvar and ≤ 135% of rated current (2002 and later)"
-        detail = f"kvar {stress.kvar_pu:.1%}, current {stress.current_pu:.1%} of rating"
-    else:
-        ok = stress.current_pu <= IEC_CURRENT_PU + EPS
-        rule = "IEC 60831-1: current ≤ 1.3 I_N (1.43 I_N with +10% capacitance tolerance)"
-        detail = f"current {stress.current_pu:.2f} I_N"
-    checks.append(Check(name="Capacitor current and kvar", ok=ok, rule=rule,
+    ok = stress.current_pu <= limits.current_pu + EPS
+    detail = f"current {stress.current_pu:.1%} of rating"
+    if limits.kvar_pu is not None:
+        ok = ok and stress.kvar_pu <= limits.kvar_pu + EPS
+        detail = f"kvar {stress.kvar_pu:.1%}, " + detail
+    checks.append(Check(name="Capacitor current and kvar", ok=ok, rule=limits.current_clause,
                         detail=detail + f" at the fundamental{freq}; harmonic currents add to it"))
     use = stress.utilisation_pu
     checks.append(Check(
@@ -249,7 +283,7 @@ def light_load_check(bank, steps, unit_rows, factor: float) -> tuple[LightLoadCh
                            detail=detail)]
 
 
-def system_figures(bank, steps, *, rules: str, v_r: float, f_r: float, rise_pct: float | None,
+def system_figures(bank, steps, *, rules: str, basis=None, v_r: float, f_r: float, rise_pct: float | None,
                    unit_rows, factor: float, available_v: list[float], rated_current_a: float,
                    main_conductor_ampacity_a: float, main_conductor: str, ctx) -> tuple[SystemResult, list[Check]]:
     """All system checks of one sized bank: what ``size`` and ``rerate`` add to the bank's checks.
@@ -261,8 +295,8 @@ def system_figures(bank, steps, *, rules: str, v_r: float, f_r: float, rise_pct:
     p = bank.tuning_factor
     delivered = sum(s.kvar for s in steps)
     rated = sum(s.rated_kvar for s in steps)
-    stress = voltage_stress(supply.voltage_v, supply.frequency_hz, v_r, f_r, p, rise_pct, delivered, rated)
-    checks = voltage_checks(stress, rules, supply.voltage_v, p, rise_pct, delivered)
+    stress = voltage_stress(supply.voltage_v, supply.frequency_hz, v_r, f_r, p, rise_pct, delivered, rated, basis)
+    checks = voltage_checks(stress, rules, supply.voltage_v, p, rise_pct, delivered, basis)
     tuning, tuning_checks = tuning_check(bank, p)
     checks += tuning_checks
     s_sc, points, complete, advice, res_checks = resonance(bank, steps, p, available_v)

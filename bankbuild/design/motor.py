@@ -13,7 +13,7 @@ from bankbuild.design.protection import (
     IEC_MIN_PARALLEL_MM2,
     NEC_MAX_SINGLE_MM2,
     NEC_MIN_PARALLEL_MM2,
-    conductor_name,
+    derated_rows,
 )
 from bankbuild.design.select import pick_conductor
 from bankbuild.results.sizing import Check, MotorCheck, UnitLine
@@ -124,7 +124,8 @@ def motor_figures(bank, capacitor_kvar: float, rated_current_a: float, conductor
     chosen, chosen_a = conductor, conductor_ampacity_a
     if not ok:
         nec = ctx.rules == "nec"
-        pick = pick_conductor(ctx.conductor_rows, need, ctx.ampacity_attr, conductor_name(ctx.rules), ctx.max_sets,
+        rows = derated_rows(ctx, need, ctx.grouped_main)
+        pick = pick_conductor(rows, need, "ampacity_a", lambda row: row.size, ctx.max_sets,
                               NEC_MIN_PARALLEL_MM2 if nec else IEC_MIN_PARALLEL_MM2,
                               NEC_MAX_SINGLE_MM2 if nec else IEC_MAX_SINGLE_MM2)
         if pick is not None:

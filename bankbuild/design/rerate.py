@@ -18,7 +18,7 @@ from collections import Counter
 
 from bankbuild.calc import EPS
 from bankbuild.design.provenance import provenance
-from bankbuild.design.rules import CAUTIONS
+from bankbuild.design.rules import CAUTIONS, rule_basis_for
 from bankbuild.design.sizing import size_bank
 from bankbuild.errors import OptionError
 from bankbuild.results.rerate import BomChange, ItemFit, RerateBank, RerateResult, RerateStep
@@ -32,15 +32,18 @@ RERATE_CAUTION = (
 
 
 def rerate_project(spec: Spec, catalogs, voltage_v: float, frequency_hz: float | None = None,
-                   transformer: dict | None = None, spec_path: str = "", spec_sha256: str = "") -> RerateResult:
+                   transformer: dict | None = None, spec_path: str = "", spec_sha256: str = "",
+                   basis=None) -> RerateResult:
     """Re-rate every bank of ``spec`` to ``voltage_v`` (and ``frequency_hz``; None keeps each bank's own).
 
     ``transformer`` optionally replaces each bank's transformer at the new supply:
-    ``{"transformer_kva": …, "transformer_z_pct": …, "source_sc_mva": …}``.
+    ``{"transformer_kva": …, "transformer_z_pct": …, "source_sc_mva": …}``. ``basis`` is the rule basis when the
+    caller read one (see :func:`bankbuild.bank.size_project`).
     """
-    banks = [rerate_bank(bank, i, spec, catalogs, voltage_v, frequency_hz, transformer, spec_path)
+    basis = rule_basis_for(spec, basis)
+    banks = [rerate_bank(bank, i, spec, catalogs, voltage_v, frequency_hz, transformer, spec_path, basis)
              for i, bank in enumerate(spec.banks)]
-    prov = provenance(spec, catalogs, spec_path, spec_sha256)
+    prov = provenance(basis, catalogs, spec_path, spec_sha256)
     return RerateResult(project=spec.project.model_dump(), provenance=prov, voltage_v=voltage_v,
                         frequency_hz=frequency_hz, banks=banks, cautions=[*CAUTIONS, RERATE_CAUTION])
 
@@ -97,14 +100,15 @@ def _light_load(bank: Bank) -> LightLoad | None:
 
 
 def rerate_bank(bank: Bank, index: int, spec: Spec, catalogs, voltage_v: float, frequency_hz: float | None = None,
-                transformer: dict | None = None, where: str = "") -> RerateBank:
+                transformer: dict | None = None, where: str = "", basis=None) -> RerateBank:
     """One bank at the new supply: as it stands, what must change, and a re-sized alternative."""
-    original = size_bank(bank, index, spec, catalogs, where)
+    basis = rule_basis_for(spec, basis)
+    original = size_bank(bank, index, spec, catalogs, where, basis=basis)
     f_new = frequency_hz if frequency_hz is not None else bank.supply.frequency_hz
     supply = new_supply(bank.supply, voltage_v, f_new, transformer)
     moved = moved_bank(bank, original, supply)
-    at_new = size_bank(moved, index, spec, catalogs, where)
-    resized = size_bank(resized_bank(bank, original, supply), index, spec, catalogs, where)
+    at_new = size_bank(moved, index, spec, catalogs, where, basis=basis)
+    resized = size_bank(resized_bank(bank, original, supply), index, spec, catalogs, where, basis=basis)
 
     steps = [RerateStep(index=new.index, units=new.units, rated_kvar=new.rated_kvar, original_kvar=old.kvar,
                         delivered_kvar=new.kvar, rated_current_a=new.rated_current_a,

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 from bankbuild.calc import capacitor as cap
 from bankbuild.calc import discharge as dis
 from bankbuild.results.sizing import Discharge
@@ -22,33 +20,33 @@ CAUTIONS = (
 )
 
 
-@dataclass(frozen=True)
-class RuleBasis:
-    name: str
-    edition: str
-    discharge_limit_v: float
-    discharge_time_s: float
-    discharge_rule: str
+def rule_basis_for(spec, basis=None):
+    """The rule basis a spec sizes with: ``basis`` when the caller read one (a file the spec names, or a
+    user's copy beside the tables), else the built-in one the spec names (``nec`` with its ``nec_edition``)."""
+    if basis is not None:
+        return basis
+    from bankbuild.errors import SpecError
+    from bankbuild.tables.rulebasis import builtin_rule_basis
+
+    if spec.rules_file is not None:
+        raise SpecError("", "rules", f"{spec.rules!r} is a rule-basis file: read the spec with its file "
+                                     "(bankbuild.size or the CLI), which loads it")
+    return builtin_rule_basis(spec.rules, spec.nec_edition)
 
 
-def rule_basis(rules: str, nec_edition: int = 2023) -> RuleBasis:
-    """Defaults and tables that the rule basis picks; every factor remains the user's to override."""
-    if rules == "nec":
-        return RuleBasis("nec", f"NEC {nec_edition} (Table 310.16, 240.6(A), Article 460)", 50.0, 60.0,
-                         "NEC 460.6(A): ≤ 50 V within 1 min")
-    return RuleBasis("iec", "IEC 60831-1, IEC 60364-5-52, IEC 60269", 75.0, 180.0,
-                     "IEC 60831-1: ≤ 75 V within 3 min")
+def discharge_for(basis, bank, step, units, rated_voltage_v: float, connection: str | None = None) -> Discharge:
+    """Discharge figures for ``step`` (the one with the most capacitance) under the bank's rule.
 
-
-def discharge_for(rules: str, bank, step, units, rated_voltage_v: float) -> Discharge:
-    """Discharge figures for ``step`` (the one with the most capacitance) under the bank's rule."""
-    basis = rule_basis(rules)
+    ``basis`` is the rule basis's content (its ``discharge`` rule), unless the spec states its own rule;
+    ``connection`` is the units' internal connection (the legs the resistors sit across), default the bank's.
+    """
     if bank.discharge is not None:
         limit, time_s = bank.discharge.limit_v, bank.discharge.time_s
         rule = f"spec rule: ≤ {limit:g} V within {time_s:g} s"
     else:
-        limit, time_s, rule = basis.discharge_limit_v, basis.discharge_time_s, basis.discharge_rule
-    leg_v = cap.leg_voltage_v(rated_voltage_v, bank.connection)
+        rule_ = basis.discharge
+        limit, time_s, rule = rule_.limit_v, rule_.time_s, f"{rule_.clause}: {rule_.text}"
+    leg_v = cap.leg_voltage_v(rated_voltage_v, connection or bank.connection)
     v0 = dis.start_voltage_v(leg_v)
     r_max = dis.max_resistance_ohm(step.capacitance_uf_per_leg, v0, limit, time_s)
     used = {u.id for u in step.units}

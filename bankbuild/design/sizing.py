@@ -9,12 +9,12 @@ from bankbuild.calc import system as sysc
 from bankbuild.design.assembly import assemble_bank
 from bankbuild.design.assembly import step_targets as planned_targets
 from bankbuild.design.bom import project_bom
-from bankbuild.design.checks import system_figures
+from bankbuild.design.checks import detuned_resonance_order, system_figures
 from bankbuild.design.existing import resolve_units
 from bankbuild.design.harmonics import study as harmonic_study
 from bankbuild.design.protection import CircuitContext, size_circuit
 from bankbuild.design.provenance import provenance
-from bankbuild.design.rules import CAUTIONS, discharge_for
+from bankbuild.design.rules import CAUTIONS, discharge_for, rule_basis_for
 from bankbuild.design.select import build_step, pick_unit_voltage, unit_voltages
 from bankbuild.errors import SpecError
 from bankbuild.results.sizing import (
@@ -32,17 +32,20 @@ from bankbuild.spec.model import Bank, Need, Spec
 
 
 def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "",
-                 on_bank=None) -> ProjectResult:
+                 on_bank=None, basis=None) -> ProjectResult:
     """Size every bank of ``spec`` against ``catalogs``; raises SpecError only for spec/table mismatches.
 
     ``on_bank(done, total, name)``, if given, is called after each bank (a progress bar; no I/O here).
+    ``basis`` is the rule basis (:class:`bankbuild.tables.rulebasis.RuleBasis`) when the caller read one;
+    otherwise the built-in basis the spec names.
     """
+    basis = rule_basis_for(spec, basis)
     banks = []
     for i, bank in enumerate(spec.banks):
-        banks.append(size_bank(bank, i, spec, catalogs, spec_path))
+        banks.append(size_bank(bank, i, spec, catalogs, spec_path, basis=basis))
         if on_bank is not None:
             on_bank(i + 1, len(spec.banks), bank.name)
-    prov = provenance(spec, catalogs, spec_path, spec_sha256)
+    prov = provenance(basis, catalogs, spec_path, spec_sha256)
     return ProjectResult(project=spec.project.model_dump(), provenance=prov, banks=banks, cautions=list(CAUTIONS),
                          bom=project_bom(banks))
 
@@ -89,8 +92,10 @@ def step_targets(bank: Bank, required_kvar: float, units=(), factor: float = 1.0
     return planned_targets(bank, required_kvar, units, factor)
 
 
-def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> BankResult:
+def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", basis=None) -> BankResult:
     """Size one bank: units per step, protection per step and main, discharge and system checks."""
+    basis = rule_basis_for(spec, basis)
+    rules = basis.rules
     field = f"banks[{index}] ({bank.name})"
     supply = bank.supply
     v_s, f_s = supply.voltage_v, supply.frequency_hz
@@ -103,7 +108,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
                         f"the present power factor ({need.pf_present:.3f}) already meets the target "
                         f"({need.pf_target}): nothing to correct; give explicit steps to size a bank anyway")
 
-    units_all = catalogs.capacitor_units
+    units_all = _units_of_connection(catalogs.capacitor_units, bank)
     given = resolve_units(bank, units_all, where, field) if bank.units is not None else None
     freqs = sorted({u.rated_frequency_hz for u in units_all}, key=lambda f: (abs(f - f_s), f))
     f_r = given.rated_frequency_hz if given else freqs[0]
@@ -127,8 +132,8 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
     voltage_ok = v_r >= v_cap_needed - 1e-9
     checks.append(Check(
         name="Unit voltage covers the supply" + (" and detuning rise" if p else ""), ok=voltage_ok,
-        rule="IEEE 18 / IEC 60831-1: continuous ≤ 110% of rated voltage" if voltage_ok else
-        "unit rated voltage must not be below the voltage the capacitor sees",
+        rule="unit rated voltage ≥ the voltage the capacitor sees (the continuous limits are in 'Capacitor "
+             "voltage')",
         detail=(f"capacitor sees {v_cap_needed:.0f} V" + (f" (= {v_s:g} V / (1 − {p:g}))" if p else "")
                 + f"; units rated {v_r:g} V")))
     if bank.voltage_margin_pct > 0 and v_r < v_wanted - 1e-9:
@@ -138,6 +143,14 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
                    f"units rated {v_r:g} V" + ("" if v_r < max(available) else ", the highest in the unit table")))
 
     units = [u for u in units_all if u.rated_voltage_v == v_r and u.rated_frequency_hz == f_r]
+    unit_connection = units[0].connection if units else bank.connection
+    if unit_connection != bank.connection:
+        checks.append(Check(
+            name="Unit connection", ok=True, level="info", rule="three-phase units: connected inside the unit",
+            detail=f"connection: {bank.connection}, but the units are three-phase units connected {unit_connection} "
+                   f"inside; the bank is built of their {unit_connection} elements: capacitance per leg, leg voltage "
+                   f"and discharge resistors are the parts' ({unit_connection}); capacitance per phase is given as the "
+                   f"{bank.connection} equivalent"))
     at_supply = cap.rerate_kvar(1.0, v_r, f_r, v_s, f_s)
     factor = det.detuned_kvar(at_supply, p) if p else at_supply
 
@@ -146,10 +159,11 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
         for k in range(len(given.steps)):
             choice = given.choice(k, factor)
             steps.append(_size_step(k + 1, choice.delivered_kvar, units, factor, bank, v_s, f_s, v_r, f_r, p,
-                                    choice))
+                                    choice, unit_connection))
     else:
         for k, target in enumerate(step_targets(bank, required, units, factor), start=1):
-            steps.append(_size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p))
+            steps.append(_size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p,
+                                    connection=unit_connection))
     delivered = sum(s.kvar for s in steps)
     rated_kvar = sum(s.rated_kvar for s in steps)
     if need.active_kw is not None:
@@ -162,7 +176,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
     checks.append(Check(name="Delivered covers the need", ok=delivered >= required - 1e-6, rule="design",
                         detail=f"delivered {delivered:.1f} kvar at {v_s:g} V, {f_s:g} Hz; need {required:.1f} kvar"))
 
-    ctx = circuit_context(spec, bank, catalogs, where, field)
+    ctx = circuit_context(spec, bank, catalogs, where, field, rules)
     floor_a, floor_text = 0.0, ""
     if bank.motor is not None:  # NEC 460.8(A): also ≥ 1/3 of the motor circuit conductor's ampacity
         floor_a = bank.motor.conductor_ampacity_a / 3
@@ -192,7 +206,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
                 disconnect_rating_a=main_c.disconnect.value if main_c.disconnect else 0.0, sizing=main_c.lines)
 
     largest = max(sized, key=lambda s: s.capacitance_uf_per_leg)
-    discharge = discharge_for(spec.rules, bank, largest, units, v_r)
+    discharge = discharge_for(rules, bank, largest, units, v_r, unit_connection)
     checks.append(Check(name="Discharge", ok=discharge.ok, rule=discharge.rule,
                         detail=(f"≤ {discharge.limit_v:g} V within {discharge.time_s:g} s needs R ≤ "
                                 f"{discharge.max_resistance_ohm:,.0f} Ω per leg; built-in resistors reach it in "
@@ -200,30 +214,82 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "") -> 
 
     resonance, rise = _system(bank, sized, checks, p)
     system, system_checks = system_figures(
-        bank, sized, rules=spec.rules, v_r=v_r, f_r=f_r, rise_pct=rise, unit_rows=units, factor=factor,
+        bank, sized, rules=rules.family, basis=rules, v_r=v_r, f_r=f_r, rise_pct=rise, unit_rows=units, factor=factor,
         available_v=available, rated_current_a=rated_current, main_conductor_ampacity_a=main.conductor_ampacity_a,
         main_conductor=main.conductor, ctx=ctx)
     checks.extend(system_checks)
     result = BankResult(
-        name=bank.name, rules=spec.rules, connection=bank.connection, supply_voltage_v=v_s, frequency_hz=f_s,
+        name=bank.name, rules=rules.family, connection=bank.connection, unit_connection=unit_connection,
+        supply_voltage_v=v_s, frequency_hz=f_s,
         transformer_kva=supply.transformer_kva, transformer_z_pct=supply.transformer_z_pct, need=need,
         required_kvar=required, delivered_kvar=delivered, capacitor_voltage_v=v_r, rated_kvar=rated_kvar,
         rated_current_a=rated_current, line_current_a=line_current,
         capacitance_uf_per_phase=cap.capacitance_uf_per_leg(rated_kvar, v_r, f_r, bank.connection),
         detuning_pct=bank.detuning_pct, steps=sized, main=main, discharge=discharge, resonance=resonance,
-        voltage_rise_pct=rise, checks=checks, system=system)
+        voltage_rise_pct=rise, checks=checks, system=system, assumptions=assumptions(bank, ctx, basis))
     assembled = assemble_bank(result, bank, catalogs, ctx, units)
     if bank.harmonics is None:
         return assembled
-    harmonics, harmonic_checks = harmonic_study(bank, assembled, spec.rules, available)
+    harmonics, harmonic_checks = harmonic_study(bank, assembled, rules.family, available)
     return assembled.model_copy(update={"harmonics": harmonics, "checks": [*assembled.checks, *harmonic_checks]})
+
+
+def _units_of_connection(units, bank: Bank):
+    """The unit table's units connected inside as the bank is, when the table has any; else every unit (a bank
+    of three-phase units is then built of the units' own connection, and its per-leg figures are the parts')."""
+    same = tuple(u for u in units if u.connection == bank.connection)
+    return same or tuple(units)
+
+
+def assumptions(bank: Bank, ctx: CircuitContext, basis) -> list[str]:
+    """Every assumption the bank's figures rest on, in words, for the worksheet."""
+    rules = basis.rules
+    prot = bank.protection
+    corr = rules.corrections
+    out = [f"Rule basis {basis.label} ({basis.file_name}, SHA-256 {basis.sha256[:12]}…): {rules.documents.basis_line}."]
+    given = {k for k in prot.model_fields_set}
+    for kind, attr in (("conductor", "conductor_factor"), ("disconnect", "disconnect_factor")):
+        if attr not in given:
+            mult = getattr(rules.multipliers, kind)
+            out.append(f"{kind.capitalize()} factor {mult.factor:g} from the rule basis ({mult.clause}).")
+    if "device_factor" not in given:
+        mult = getattr(rules.multipliers, prot.device)
+        out.append(f"{prot.device.capitalize()} factor {mult.factor:g} from the rule basis ({mult.clause}).")
+    out.append(f"Conductors: copper, {ctx.conductor_label}; air around them {ctx.ambient_text}; correction "
+               f"from the {corr.base_ambient_c:g} °C base by {corr.ambient_clause}.")
+    what = "current-carrying conductors" if corr.grouping_counts == "conductors" else "circuits"
+    per = 3 if corr.grouping_counts == "conductors" else 1
+    stated = "grouped_circuits" in given
+    out.append(f"Grouping ({corr.grouping_clause}): each step circuit runs with {ctx.grouped_steps} circuit(s) "
+               f"({ctx.grouped_steps * per} {what}; "
+               + ("stated" if stated else "default: each circuit's conductors apart from the other circuits' — set "
+                  "protection.grouped_circuits when step circuits share a duct or tray")
+               + f"); the incomer with {ctx.grouped_main} ({ctx.grouped_main * per} {what}). Parallel sets run in "
+               "separate raceways, each grouped the same.")
+    if rules.terminations is not None:
+        term = rules.terminations
+        if prot.termination_temp_c is None:
+            out.append(f"Terminals taken as listed and marked for {term.default_c} °C (the rule basis's default; "
+                       f"{term.clause}); if they are not, set protection.termination_temp_c: {term.small_circuit_c}. "
+                       f"{term.small_circuit_text}.")
+        else:
+            out.append(f"Terminals marked {prot.termination_temp_c} °C (stated); {term.clause}.")
+        out.append("Capacitor circuits are not multi-outlet branch circuits for cord-and-plug portable loads, so "
+                   "the first condition of the next-size-up rule always holds.")
+    if rules.coordination.capacitor_note:
+        out.append(rules.coordination.capacitor_note[0].upper() + rules.coordination.capacitor_note[1:] + ".")
+    if bank.supply.has_transformer and bank.supply.source_sc_mva is None:
+        out.append("Utility source taken as infinite behind the transformer (no source_sc_mva given): the resonance "
+                   "order and the voltage rise are then at their least severe.")
+    return out
 
 
 def _basis_text(rated_a: float, line_a: float) -> str:
     return "rated current" if rated_a >= line_a else "operating current, above rated"
 
 
-def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p, choice=None) -> Step:
+def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p, choice=None, connection=None) -> Step:
+    """One step: its units, currents and the capacitance per leg of the parts (``connection``: the units' own)."""
     choice = choice or build_step(units, target, factor)
     lines = [UnitLine(id=u.unit_id, qty=c, rated_kvar=u.rated_kvar, rated_voltage_v=u.rated_voltage_v,
                       rated_frequency_hz=u.rated_frequency_hz, delivered_kvar_each=u.rated_kvar * factor,
@@ -240,7 +306,8 @@ def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p, choice=Non
     return Step(index=k, target_kvar=target, kvar=choice.delivered_kvar, rated_kvar=choice.rated_kvar,
                 rated_current_a=cap.line_current_a(choice.rated_kvar, v_r),
                 line_current_a=cap.line_current_a(choice.delivered_kvar, v_s),
-                capacitance_uf_per_leg=cap.capacitance_uf_per_leg(choice.rated_kvar, v_r, f_r, bank.connection),
+                capacitance_uf_per_leg=cap.capacitance_uf_per_leg(choice.rated_kvar, v_r, f_r,
+                                                                  connection or bank.connection),
                 units=lines, device="", device_rating_a=0.0, conductor="", conductor_ampacity_a=0.0, sizing=[],
                 detuning=detuning)
 
@@ -251,46 +318,71 @@ def _system(bank: Bank, steps, checks: list[Check], p: float):
         return [], None
     s_sc = sysc.short_circuit_mva(supply.transformer_kva, supply.transformer_z_pct, supply.source_sc_mva)
     points = []
-    total = 0.0
+    total = q_c = 0.0
     for step in steps:
         total += step.kvar
-        h = sysc.resonance_order(s_sc, total)
-        near = None if p else sysc.near_harmonic(h)
+        # Q_C: the capacitors' kvar at the supply voltage (without the reactor's rise), as h = 1/√(p + Q_C/S_sc)
+        q_c += step.detuning.capacitor_kvar_at_supply if (p and step.detuning) else step.kvar
+        h = detuned_resonance_order(s_sc, q_c, p)
         points.append(ResonancePoint(steps=list(range(1, step.index + 1)), kvar=total, harmonic_order=h,
-                                     near_harmonic=near))
+                                     near_harmonic=sysc.near_harmonic(h)))
     # the resonance check (every step combination, detuned or not) is in system_checks
-    rise = sysc.voltage_rise_pct(total, supply.transformer_kva, supply.transformer_z_pct)
-    checks.append(Check(name="Voltage rise at light load", ok=rise <= 3.0, rule="ΔV% ≈ Q·Z%/kVA",
-                        detail=f"{rise:.2f}% with all {total:.0f} kvar on (flag above 3%, common practice)"))
+    rise = sysc.voltage_rise_sc_pct(total, s_sc)
+    source = (f"{supply.transformer_kva:g} kVA, {supply.transformer_z_pct:g}% transformer"
+              + (f" with a {supply.source_sc_mva:g} MVA source in series" if supply.source_sc_mva else ""))
+    checks.append(Check(name="Voltage rise at light load", ok=rise <= 3.0, rule="ΔV% ≈ 100·Q/S_sc (= Q·Z%/kVA "
+                        "for the transformer alone)",
+                        detail=f"{rise:.2f}% with all {total:.0f} kvar on; S_sc {s_sc:.2f} MVA ({source}); flag above "
+                               "3% (common practice)"))
     return points, rise
 
 
-def circuit_context(spec: Spec, bank: Bank, catalogs, where: str, field: str) -> CircuitContext:
-    """Gather factors and the table rows the sizing uses for this bank's rule basis."""
+def circuit_context(spec: Spec, bank: Bank, catalogs, where: str, field: str, rules=None) -> CircuitContext:
+    """Gather factors, the correction inputs and the table rows the sizing uses for this bank's rule basis.
+
+    ``rules`` is the rule basis's content; without it the built-in basis the spec names.
+    """
+    rules = rules if rules is not None else rule_basis_for(spec).rules
     prot = bank.protection
-    rules = spec.rules
-    if rules == "nec":
-        rows = tuple(r for r in catalogs.conductors_nec if r.edition == spec.nec_edition)
+    family = rules.family
+    mult = rules.multipliers
+    if family == "nec":
+        edition = rules.tables.conductor_edition
+        rows = tuple(r for r in catalogs.conductors_nec if r.edition == edition)
         attr = f"ampacity_{prot.conductor_temp_c}c_a"
-        label = f"Cu {prot.conductor_temp_c} °C, NEC Table 310.16 ({spec.nec_edition})"
+        label = f"Cu {prot.conductor_temp_c} °C insulation, {rules.tables.conductor_table_text}"
         if not rows:
-            raise SpecError(where, "nec_edition", f"no {spec.nec_edition} rows in the NEC conductor table")
+            raise SpecError(where, "nec_edition" if spec.rules == "nec" else "rules",
+                            f"no {edition} rows in the NEC conductor table")
     else:
         rows = tuple(r for r in catalogs.conductors_iec
                      if r.insulation == prot.insulation and r.method == prot.installation_method)
         attr = "ampacity_a"
-        label = f"Cu {prot.insulation}, method {prot.installation_method}, IEC 60364-5-52"
+        label = f"Cu {prot.insulation}, method {prot.installation_method}, {rules.tables.conductor_table_text}"
         if not rows:
             have = sorted({f"{r.insulation}/{r.method}" for r in catalogs.conductors_iec})
             raise SpecError(where, f"{field}.protection",
                             f"no IEC conductor rows for {prot.insulation}, method {prot.installation_method} "
                             f"(the table has {', '.join(have)})")
+    opts = bank.assembly
+    if prot.conductor_ambient_c is not None:
+        ambient, ambient_text = prot.conductor_ambient_c, f"{prot.conductor_ambient_c:g} °C (stated)"
+    else:
+        ambient = opts.ambient_c + opts.temperature_rise_k
+        ambient_text = (f"{ambient:g} °C, the enclosure air ({opts.ambient_c:g} °C ambient + "
+                        f"{opts.temperature_rise_k:g} K rise, assembly.ambient_c and temperature_rise_k)")
+    device_factor = prot.device_factor if prot.device_factor is not None else getattr(mult, prot.device).factor
     return CircuitContext(
-        rules=rules, device=prot.device, conductor_factor=prot.conductor_factor,
-        device_factor=prot.effective_device_factor(), disconnect_factor=prot.disconnect_factor,
+        rules=family, device=prot.device,
+        conductor_factor=prot.conductor_factor if prot.conductor_factor is not None else mult.conductor.factor,
+        device_factor=device_factor,
+        disconnect_factor=prot.disconnect_factor if prot.disconnect_factor is not None else mult.disconnect.factor,
         conductor_rows=rows, ampacity_attr=attr, conductor_label=label,
-        device_rows=tuple(r for r in catalogs.device_ratings if r.basis == rules and r.device == prot.device),
-        frame_rows=tuple(r for r in catalogs.breaker_frames if r.basis == rules),
-        disconnect_rows=tuple(r for r in catalogs.disconnect_ratings if r.basis == rules),
-        max_sets=prot.max_parallel_sets)
-
+        device_rows=tuple(r for r in catalogs.device_ratings
+                          if r.basis == rules.tables.device_basis and r.device == prot.device),
+        frame_rows=tuple(r for r in catalogs.breaker_frames if r.basis == rules.tables.device_basis),
+        disconnect_rows=tuple(r for r in catalogs.disconnect_ratings if r.basis == rules.tables.device_basis),
+        max_sets=prot.max_parallel_sets, basis=rules, ambient_c=ambient, ambient_text=ambient_text,
+        termination_c=prot.termination_temp_c,
+        grouped_steps=prot.grouped_circuits,
+        grouped_main=prot.main_grouped_circuits, insulation=prot.insulation, method=prot.installation_method)

@@ -152,7 +152,10 @@ def provenance_block(result: ProjectResult, width: float) -> list:
     """Where every number came from: program version, rule basis and edition, spec hash, each table's hash."""
     prov = result.provenance
     rows = [[C("Program", "cell_bold"), C(f"bankbuild {prov.version}")],
-            [C("Rule basis", "cell_bold"), C(f"{prov.rules.upper()}: {prov.edition}")],
+            [C("Rule basis", "cell_bold"), C(prov.edition + (f" — file {prov.rule_basis_file}, SHA-256 "
+                                                               f"{prov.rule_basis_sha256}" if prov.rule_basis_file
+                                                               else ""))],
+            [C("Rule basis note", "cell_bold"), C(prov.rule_basis_note or "—")],
             [C("Spec file", "cell_bold"), C(prov.spec_file or "—")],
             [C("Spec SHA-256", "cell_bold"), C(prov.spec_sha256 or "—")]]
     table_rows = [[C("Rating table", "head"), C("SHA-256 of the file as read", "head")]]

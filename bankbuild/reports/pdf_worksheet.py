@@ -56,12 +56,12 @@ def need_formula(bank: BankResult) -> str:
             f"{num(need.required_kvar, 1, 'kvar')}")
 
 
-def inputs_table(bank: BankResult, rules_edition: str, width: float):
+def inputs_table(bank: BankResult, prov, width: float):
     """What the bank was sized from."""
     main = bank.main
     factors = "; ".join(f"{line.item.lower()} × {gnum(line.factor)}" for line in main.sizing if line.factor != 1.0)
     pairs = [
-        ("Rule basis", f"{bank.rules.upper()}: {rules_edition}"),
+        ("Rule basis", f"{prov.edition}: {prov.rule_basis_text}" if prov.rule_basis_text else prov.edition),
         ("Supply", supply_text(bank)),
         ("Connection", bank.connection),
         ("Need", need_text(bank)),
@@ -73,6 +73,12 @@ def inputs_table(bank: BankResult, rules_edition: str, width: float):
         ("Protective device", f"{main.device}; multipliers on the design current: {factors or '—'}"),
     ]
     return key_values(pairs, width, key_share=0.2)
+
+
+def assumptions_table(bank: BankResult, width: float):
+    """Every assumption the bank's figures rest on, numbered, so a reviewer can strike any that does not hold."""
+    rows = [[C(f"A{i}", "cell_bold"), C(text)] for i, text in enumerate(bank.assumptions, start=1)]
+    return grid(rows, [width * 0.06, width * 0.94], header_rows=0, zebra=False)
 
 
 def delivered_formula(step: Step, bank: BankResult) -> str:
@@ -93,7 +99,7 @@ def capacitance_formula(step: Step, bank: BankResult) -> str:
     if not step.units:
         return "—"
     unit = step.units[0]
-    three = "3 × " if bank.connection == "delta" else ""
+    three = "3 × " if bank.unit_connection == "delta" else ""
     return (f"{gnum(step.rated_kvar)} kvar / ({three}2π·{gnum(unit.rated_frequency_hz)} × "
             f"({gnum(unit.rated_voltage_v)} V)²) = {num(step.capacitance_uf_per_leg, 1, 'µF')}")
 
@@ -233,7 +239,9 @@ def checks_table(bank: BankResult, width: float):
 def bank_section(index: int, total: int, bank: BankResult, result: ProjectResult, width: float) -> list:
     """All of one bank's worksheet."""
     story = heading(f"Bank {index} of {total}: {bank.name}", "h1", 220)
-    story += [P("1. Inputs", "h2"), inputs_table(bank, result.provenance.edition, width)]
+    story += [P("1. Inputs", "h2"), inputs_table(bank, result.provenance, width)]
+    if bank.assumptions:
+        story += [P("Assumptions the figures rest on", "h2"), assumptions_table(bank, width)]
     story += heading("2. Capacitor units and currents") + [units_table(bank, width), P(units_note(bank), "note")]
     detuned = detuning_table(bank, width)
     if detuned is not None:

@@ -45,7 +45,8 @@ def discharge_table(bank: BankResult, width: float):
     pairs = [
         ("Rule", dis.rule),
         ("Step checked", f"step {dis.step_index}, the one with the most capacitance: "
-                         f"{num(dis.capacitance_uf_per_leg, 1, 'µF')} per leg ({bank.connection})"),
+                         f"{num(dis.capacitance_uf_per_leg, 1, 'µF')} per leg "
+                         f"({bank.unit_connection}, inside the units)"),
         ("Start voltage", f"V₀ = √2 × {num(leg_v, 1, 'V')} (rated voltage across one leg) = "
                           f"{num(dis.start_voltage_v, 1, 'V')}"),
         ("Largest resistance", r_text),

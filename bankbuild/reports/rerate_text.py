@@ -11,7 +11,7 @@ import json
 
 from bankbuild.reports.jsonout import json_safe
 from bankbuild.reports.tables import neutralise
-from bankbuild.reports.terminal import closing_lines
+from bankbuild.reports.terminal import _basis_line, closing_lines
 from bankbuild.results.rerate import RerateBank, RerateResult
 
 
@@ -77,7 +77,7 @@ def bank_text(bank: RerateBank) -> list[str]:
 def rerate_text(result: RerateResult, written: list[str] | None = None) -> str:
     """The whole terminal summary of a re-rating run."""
     lines = [f"bankbuild {result.provenance.version} — re-rating {result.project.get('name', '')}",
-             f"rule basis: {result.provenance.edition}", ""]
+             f"rule basis: {_basis_line(result.provenance)}", ""]
     for bank in result.banks:
         lines.extend(bank_text(bank))
         lines.append("")

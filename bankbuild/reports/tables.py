@@ -160,6 +160,8 @@ def bom_xlsx(result: ProjectResult) -> bytes:
     rows = [("Bill of materials", "")]
     rows += [(k.replace("_", " ").capitalize(), str(v)) for k, v in result.project.items() if v]
     rows += [("bankbuild version", result.provenance.version), ("Rule basis", result.provenance.edition),
+             ("Rule-basis file", result.provenance.rule_basis_file),
+             ("Rule-basis SHA-256", result.provenance.rule_basis_sha256),
              ("Spec file", result.provenance.spec_file), ("Spec SHA-256", result.provenance.spec_sha256), ("", "")]
     rows += [(f"Table {t.file_name}", f"SHA-256 {t.sha256}") for t in result.provenance.tables]
     rows += [("", "")] + [("Caution", text) for text in result.cautions]

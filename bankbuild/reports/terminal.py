@@ -104,6 +104,24 @@ def bom_lines(bank: BankResult) -> list[str]:
     return out
 
 
+def _none_fits(sizing, item: str) -> str:
+    """``none in the table is large enough (≥ 612.3 A needed)``, with the figure from the sizing line."""
+    need = next((line.required_a for line in sizing if line.item == item), None)
+    return "none in the table is large enough" + (f" (≥ {need:,.1f} A needed)" if need is not None else "")
+
+
+def _device(kind: str, rating_a: float, sizing) -> str:
+    if rating_a:
+        return f"{kind} {rating_a:g} A"
+    return f"{kind}: " + _none_fits(sizing, "Fuse" if kind == "fuse" else "Breaker trip")
+
+
+def _conductor(name: str, ampacity_a: float, sizing) -> str:
+    if ampacity_a and name != "none":
+        return f"{name} ({ampacity_a:g} A)"
+    return "conductor: " + _none_fits(sizing, "Conductor ampacity")
+
+
 def bank_summary(bank: BankResult) -> list[str]:
     """Lines of text that summarise one bank."""
     out = [f"== {bank.name} ==",
@@ -125,11 +143,15 @@ def bank_summary(bank: BankResult) -> list[str]:
     out.append("  steps")
     for step in bank.steps:
         units = " + ".join(f"{u.qty} × {u.rated_kvar:g} kvar" for u in step.units)
-        out.append(f"    {step.index:>2}  {step.kvar:7.1f} kvar  {units:<28} {step.device} "
-                   f"{step.device_rating_a:g} A, {step.conductor} ({step.conductor_ampacity_a:g} A)")
+        out.append(f"    {step.index:>2}  {step.kvar:7.1f} kvar  {units:<28} "
+                   f"{_device(step.device, step.device_rating_a, step.sizing)}, "
+                   f"{_conductor(step.conductor, step.conductor_ampacity_a, step.sizing)}")
     main = bank.main
-    out.append(f"  main          {main.device} {main.device_rating_a:g} A, disconnect {main.disconnect_rating_a:g} A,"
-               f" conductor {main.conductor} ({main.conductor_ampacity_a:g} A) on {_fmt_a(main.design_current_a)}")
+    disconnect = (f"disconnect {main.disconnect_rating_a:g} A" if main.disconnect_rating_a else
+                  f"disconnect: {_none_fits(main.sizing, 'Disconnect')}")
+    out.append(f"  main          {_device(main.device, main.device_rating_a, main.sizing)}, {disconnect}, "
+               f"conductor {_conductor(main.conductor, main.conductor_ampacity_a, main.sizing)} on "
+               f"{_fmt_a(main.design_current_a)}")
     dis = bank.discharge
     out.append(f"  discharge     step {dis.step_index}: R ≤ {dis.max_resistance_ohm:,.0f} Ω per leg "
                f"({dis.resistor_power_w:,.1f} W) for ≤ {dis.limit_v:g} V in {dis.time_s:g} s; built-in "
@@ -152,7 +174,7 @@ def bank_summary(bank: BankResult) -> list[str]:
 def project_summary(result: ProjectResult, written: list[str] | None = None) -> str:
     """The whole terminal summary, with the files written and the cautions."""
     lines = [f"bankbuild {result.provenance.version} — {result.project.get('name', '')}",
-             f"rule basis: {result.provenance.edition}", ""]
+             f"rule basis: {_basis_line(result.provenance)}", ""]
     for bank in result.banks:
         lines.extend(bank_summary(bank))
         lines.append("")
@@ -161,6 +183,13 @@ def project_summary(result: ProjectResult, written: list[str] | None = None) -> 
         lines.append("")
     lines.extend(closing_lines(written, [result.cautions[0], result.cautions[2]]))
     return "\n".join(lines)
+
+
+def _basis_line(prov) -> str:
+    """``NEC 2023 (rules-nec-2023.yaml, SHA-256 2cccb8e2…)``: the basis named once, with its file."""
+    if not prov.rule_basis_file:
+        return prov.edition
+    return f"{prov.edition} ({prov.rule_basis_file}, SHA-256 {prov.rule_basis_sha256[:12]}…)"
 
 
 def closing_lines(written: list[str] | None, cautions: list[str]) -> list[str]:

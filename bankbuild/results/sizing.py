@@ -134,14 +134,16 @@ class StepSwitching(Frozen):
 
 
 class InrushSummary(Frozen):
-    """Inrush of the bank: the first step energised alone and the last step switched against the others."""
+    """Inrush of the bank: the worst step energised alone and the worst step switched against the others."""
 
     inter_step_inductance_uh: float  # assumed (spec assembly.inter_step_inductance_uh)
     source_inductance_uh: float | None
     short_circuit_current_a: float | None
-    energising_peak_a: float | None
-    back_to_back_peak_a: float | None
-    back_to_back_frequency_hz: float | None
+    energising_peak_a: float | None  # the highest of any step switched on alone
+    back_to_back_peak_a: float | None  # the highest of any step switched on with every other step on
+    back_to_back_frequency_hz: float | None  # of that worst back-to-back case
+    energising_step: int | None = None  # which step gives energising_peak_a
+    back_to_back_step: int | None = None  # which step gives back_to_back_peak_a
     damping_needed: bool
     damping: str
 
@@ -291,7 +293,12 @@ class VoltageStress(Frozen):
     kvar_pu: float  # voltage_pu² · f / f_r
     utilisation_pu: float  # delivered kvar / nameplate kvar
     iec_duration: str  # the IEC 60831-1 duration class the light-load voltage falls in
-    ok: bool  # within 110 % of rated voltage, at the supply and at light load
+    continuous_limit_pu: float = 1.10  # the rule basis's continuous limit
+    short_time_pu: float | None = None  # the short-time allowance the light-load voltage falls in, if any
+    short_time_duration: str = ""  # how long that allowance lasts
+    continuous_ok: bool = True  # the capacitor voltage at the supply within the continuous limit
+    light_load_ok: bool = True  # the light-load voltage within the continuous limit or a short-time allowance
+    ok: bool  # continuous_ok and light_load_ok: the one verdict every output uses
 
 
 class TuningCheck(Frozen):
@@ -362,6 +369,7 @@ class BankResult(Frozen):
     name: str
     rules: str
     connection: str
+    unit_connection: str = "delta"  # how the units are connected inside: the legs of the parts ordered
     supply_voltage_v: float
     frequency_hz: float
     transformer_kva: float | None
@@ -388,6 +396,7 @@ class BankResult(Frozen):
     reconnection: Reconnection | None = None
     control: ControlResult | None = None
     enclosure: EnclosureResult | None = None
+    assumptions: list[str] = []  # every assumption the figures rest on, stated on the worksheet
     harmonics: HarmonicStudy | None = None  # only when the spec gives the bank a harmonics block
 
     @model_serializer(mode="wrap")
@@ -412,8 +421,13 @@ class TableUsed(Frozen):
 
 class Provenance(Frozen):
     version: str
-    rules: str
-    edition: str
+    rules: str  # the rule family: nec (AWG, 240.6(A) ladder) or iec (mm², gG)
+    edition: str  # the rule basis named once: "NEC 2023", "IEC …", "CSA C22.1 …"
+    rule_basis_id: str = ""
+    rule_basis_file: str = ""
+    rule_basis_sha256: str = ""
+    rule_basis_text: str = ""  # the sentence the rule basis has every document print
+    rule_basis_note: str = ""
     spec_file: str
     spec_sha256: str
     tables: list[TableUsed]

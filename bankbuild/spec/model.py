@@ -27,6 +27,7 @@ from pydantic_core import InitErrorDetails, PydanticCustomError
 from bankbuild.spec.harmonics import Harmonics
 
 TEXT_MAX = 200
+BUILTIN_RULES = ("nec", "iec", "csa")  # built-in rule bases; ``nec`` takes its edition from ``nec_edition``
 
 def _as_text(value: object) -> object:
     """YAML reads ``2026-12-01`` as a date and ``2`` as a number: in a text field take them as written."""
@@ -194,22 +195,28 @@ class StepPlan(_Strict):
 
 
 class Protection(_Strict):
-    """Protective device choice and the multipliers applied to the capacitor's rated current."""
+    """Protective device choice, the multipliers on the capacitor's rated current, and the conductor's conditions.
+
+    A multiplier left out takes the rule basis's default (its file names the clause). ``conductor_temp_c`` is the
+    insulation column of the ampacity table; ``termination_temp_c`` the temperature the equipment terminals are
+    listed and marked for (left out: the rule basis's default, stated on the worksheet). ``conductor_ambient_c``
+    is the air around the conductors (left out: the enclosure air, ``assembly.ambient_c`` +
+    ``assembly.temperature_rise_k``); ``grouped_circuits`` how many circuits a step circuit runs with in one duct
+    or tray (itself included; default 1: apart), ``main_grouped_circuits`` the same for the incomer.
+    """
 
     device: Literal["fuse", "breaker"] = "fuse"
-    conductor_factor: Annotated[float, Field(ge=1.0, le=3.0)] = 1.35
+    conductor_factor: Annotated[float, Field(ge=1.0, le=3.0)] | None = None
     device_factor: Annotated[float, Field(ge=1.0, le=3.0)] | None = None
-    disconnect_factor: Annotated[float, Field(ge=1.0, le=3.0)] = 1.35
+    disconnect_factor: Annotated[float, Field(ge=1.0, le=3.0)] | None = None
     conductor_temp_c: Literal[60, 75, 90] = 75
+    termination_temp_c: Literal[60, 75, 90] | None = None
+    conductor_ambient_c: Annotated[float, Field(ge=-20, le=90)] | None = None
+    grouped_circuits: Annotated[int, Field(ge=1, le=100)] = 1
+    main_grouped_circuits: Annotated[int, Field(ge=1, le=100)] = 1
     installation_method: Literal["B1", "C", "E"] = "C"
     insulation: Literal["PVC", "XLPE"] = "PVC"
     max_parallel_sets: Annotated[int, Field(ge=1, le=12)] = 6
-
-    def effective_device_factor(self) -> float:
-        """The device factor, or the default for the device: 1.65 fuse, 1.35 breaker (common practice)."""
-        if self.device_factor is not None:
-            return self.device_factor
-        return 1.65 if self.device == "fuse" else 1.35
 
 
 class DischargeRule(_Strict):
@@ -404,10 +411,24 @@ class Spec(_Strict):
     """A whole spec file: project fields, the rule basis, one or more banks, optional user tables."""
 
     project: Project = Project()
-    rules: Literal["nec", "iec"] = "nec"
+    rules: Annotated[str, Field(min_length=1, max_length=4096)] = "nec"
     nec_edition: Literal[2023, 2020] = 2023
     banks: Annotated[list[Bank], Field(min_length=1, max_length=5000)]
     catalogs: Annotated[str, Field(min_length=1, max_length=4096)] | None = None
+
+    @field_validator("rules")
+    @classmethod
+    def _rule_basis(cls, value: str) -> str:
+        """A built-in rule basis by name, or a rule-basis file (YAML) beside the spec."""
+        if value in BUILTIN_RULES or value.lower().endswith((".yaml", ".yml")):
+            return value
+        raise ValueError(f"must be {', '.join(BUILTIN_RULES)} or a rule-basis file ending in .yaml "
+                         f"(got {value[:40]!r})")
+
+    @property
+    def rules_file(self) -> str | None:
+        """The rule-basis file the spec names, or ``None`` for a built-in basis."""
+        return None if self.rules in BUILTIN_RULES else self.rules
 
     @field_validator("banks", mode="wrap")
     @classmethod

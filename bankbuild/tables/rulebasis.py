@@ -81,6 +81,8 @@ class VoltageLimits(_Strict):
     clause: ClauseText
     short_time: Annotated[list[ShortTimeVoltage], Field(max_length=20)] = []
     short_time_clause: ClauseText | None = None
+    light_load_pu: Annotated[float, Field(ge=0.9, le=1.5)] | None = None
+    light_load_text: ClauseText | None = None
     current_pu: Annotated[float, Field(ge=1.0, le=3.0)]
     kvar_pu: Annotated[float, Field(ge=1.0, le=3.0)] | None = None
     current_clause: ClauseText
@@ -98,7 +100,16 @@ class VoltageLimits(_Strict):
         if self.short_time and self.short_time[0].pu <= self.continuous_pu:
             raise ValueError(f"the first short-time limit {self.short_time[0].pu:g} pu must exceed the "
                              f"continuous limit {self.continuous_pu:g} pu")
+        if (self.light_load_pu is None) != (self.light_load_text is None):
+            raise ValueError("give light_load_pu and light_load_text together, or neither")
+        if self.light_load_pu is not None and self.light_load_pu < self.continuous_pu:
+            raise ValueError(f"light_load_pu {self.light_load_pu:g} is below the continuous limit")
         return self
+
+    @property
+    def light_load_limit_pu(self) -> float:
+        """The highest voltage allowed while the plant runs light (hours a day): its own limit or the continuous."""
+        return self.light_load_pu if self.light_load_pu is not None else self.continuous_pu
 
 
 class Coordination(_Strict):
@@ -318,7 +329,7 @@ def read_rule_basis(path: str | Path, builtin: bool = False) -> RuleBasis:
     >>> basis.label, basis.rules.coordination.next_size_up_max_a
     ('NEC 2023', 800.0)
     """
-    from bankbuild.specfile import parse_yaml
+    from bankbuild.spec.read import parse_yaml
 
     path = Path(path)
     try:

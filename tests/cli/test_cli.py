@@ -71,8 +71,8 @@ def test_size_json_has_the_stable_keys(capsys, tmp_path, spec):
 
 def test_size_json_values_of_the_worked_example(capsys, tmp_path):
     (bank,) = size_json(capsys, tmp_path, SPECS / "line3_300kvar.yaml")["banks"]
-    # Hand-worked in test_published_bank: 360.84 A, 600 A fuse (NEC 240.6(A)), 2 × 250 kcmil (NEC Table 310.16,
-    # 2023, 75 °C), 600 A switch, 1151.29 µF per leg, R ≤ 19,980 Ω.
+    # Hand-worked in test_published_bank: 360.84 A, 600 A fuse (NEC 240.6(A)), 2 × 350 kcmil (NEC Table 310.16,
+    # 2023, 75 °C, × 0.82 at 45 °C: 508.4 A), 600 A switch, 1151.29 µF per leg, R ≤ 19,980 Ω.
     assert bank["name"] == "Line 3"
     assert (bank["required_kvar"], bank["delivered_kvar"], bank["rated_kvar"]) == (300, 300, 300)
     assert (bank["supply_voltage_v"], bank["frequency_hz"], bank["capacitor_voltage_v"]) == (480, 60, 480)
@@ -81,8 +81,8 @@ def test_size_json_values_of_the_worked_example(capsys, tmp_path):
     assert bank["steps"][0]["units"] == [{"id": "CU-480-60-50.0", "qty": 6} | {
         k: v for k, v in bank["steps"][0]["units"][0].items() if k not in ("id", "qty")}]
     assert bank["main"]["device_rating_a"] == 600
-    assert bank["main"]["conductor"] == "2 × 250 kcmil"
-    assert bank["main"]["conductor_ampacity_a"] == 510
+    assert bank["main"]["conductor"] == "2 × 350 kcmil"
+    assert bank["main"]["conductor_ampacity_a"] == pytest.approx(508.4, abs=1e-9)
     assert bank["main"]["disconnect_rating_a"] == 600
     assert bank["discharge"]["max_resistance_ohm"] == pytest.approx(19980, abs=1)
     assert (bank["discharge"]["limit_v"], bank["discharge"]["time_s"], bank["discharge"]["ok"]) == (50, 60, True)
@@ -93,9 +93,17 @@ def test_size_json_resonance_entries(capsys, tmp_path):
     doc = size_json(capsys, tmp_path, SPECS / "iec_detuned_400v.yaml")
     (bank,) = doc["banks"]
     assert len(bank["resonance"]) == len(bank["steps"]) == 4
-    # h = √(kVA · 100 / (Z% · kvar)) for each cumulative step (trade-facts formula), 1000 kVA, 6%.
+    # Detuned steps (p = 7 %): the source X_s resonates with the branch X_L − X_C where X_s·h = X_C/h − p·X_C·h,
+    # so h = √(X_C / (X_s + p·X_C)) with X_s = V²/S_sc, X_C = V²/Q_C (textbook derivation; trade-facts:
+    # h_r = 1/√(p + Q_C/S_sc)). S_sc = 1000 kVA × 100 / 6 %; Q_C = the capacitors' kvar at the supply voltage =
+    # delivered × (1 − p) (trade-facts: detuned output Q = Q_C/(1 − p)).
+    p = 0.07
+    s_sc_kva = 1000 * 100 / 6
     for point in bank["resonance"]:
-        assert point["harmonic_order"] == pytest.approx((1000 * 100 / (6 * point["kvar"])) ** 0.5)
+        q_c = point["kvar"] * (1 - p)
+        x_s, x_c = 1 / s_sc_kva, 1 / q_c  # per unit of V², in 1/kvar
+        assert point["harmonic_order"] == pytest.approx((x_c / (x_s + p * x_c)) ** 0.5, rel=1e-9)
+        assert point["harmonic_order"] < 1 / p**0.5  # always below the tuning order
 
 
 def test_size_writes_results_json(capsys, tmp_path):
@@ -121,15 +129,15 @@ def test_size_terminal_summary(capsys, tmp_path):
     assert (code, err) == (0, "")
     lines = out.splitlines()
     assert lines[0] == "bankbuild 0.1.0 — Tandrellow Mill (invented site)"
-    assert lines[1] == "rule basis: NEC 2023 (Table 310.16, 240.6(A), Article 460)"
+    assert lines[1].startswith("rule basis: NEC 2023 (rules-nec-2023.yaml, SHA-256 ")
     for expected in [
         "== Line 3 ==",
         "  supply        480 V, 60 Hz, delta",
         "  need          300.0 kvar (given)",
         "  delivered     300.0 kvar at the supply; units rated 480 V, nameplate 300.0 kvar",
         "  currents      rated 360.8 A, operating 360.8 A; 1,151.3 µF per leg (delta)",
-        "     1    300.0 kvar  6 × 50 kvar                  fuse 600 A, 2 × 250 kcmil (510 A)",
-        "  main          fuse 600 A, disconnect 600 A, conductor 2 × 250 kcmil (510 A) on 360.8 A",
+        "     1    300.0 kvar  6 × 50 kvar                  fuse 600 A, 2 × 350 kcmil (508.4 A)",
+        "  main          fuse 600 A, disconnect 600 A, conductor 2 × 350 kcmil (508.4 A) on 360.8 A",
         "  discharge     step 1: R ≤ 19,980 Ω per leg (11.5 W) for ≤ 50 V in 60 s; built-in 60 s: meets the rule",
     ]:
         assert expected in lines

@@ -13,6 +13,7 @@ from bankbuild.design.sizing import load_pq, need_summary, size_project, step_ta
 from bankbuild.errors import SpecError
 from bankbuild.spec.model import Bank, Load, Need, Spec
 from bankbuild.spec.read import read_spec
+from bankbuild.tables.rulebasis import builtin_rule_basis
 
 HP_KW = 0.7456999  # Source: NIST SP 811 (2008), Appendix B.8: 1 hp = 745.6999 W
 
@@ -195,11 +196,25 @@ def test_corrected_power_factor(size_bank):
     assert bank.need.pf_corrected >= 0.95
 
 
-def test_discharge_for_delta_and_wye(size_bank):
+def test_discharge_for_delta_and_wye(size_bank, catalogs, tmp_path):
     delta = size_bank().discharge
-    wye = size_bank(connection="wye").discharge
-    # Delta: each leg sees 480 V, starts at √2 × 480 = 678.8 V. Wye: each leg sees 480/√3 = 277.1 V, starts at
-    # 391.9 V, with three times the capacitance (trade-facts formulas).
+    # The built-in units are three-phase units connected delta inside: a "wye" bank of them is built of their
+    # delta elements, so its per-leg figures are the parts' (the same as delta), with a note saying so.
+    wye_of_delta_units = size_bank(connection="wye")
+    assert wye_of_delta_units.discharge == delta
+    assert wye_of_delta_units.unit_connection == "delta"
+    note = next(c for c in wye_of_delta_units.checks if c.name == "Unit connection")
+    assert note.ok and "delta" in note.detail
+    # The bank's capacitance per phase stays the stated connection's equivalent (wye = 3 × delta).
+    assert wye_of_delta_units.capacitance_uf_per_phase == pytest.approx(
+        3 * size_bank().capacitance_uf_per_phase, rel=1e-12)
+    # Units connected wye inside (a user's table): each leg sees 480/√3 = 277.1 V, starts at 391.9 V, with
+    # three times the capacitance (trade-facts formulas).
+    from bankbuild.tables.load import builtin_dir, load_catalogs
+
+    text = (builtin_dir() / "capacitor_units.csv").read_text(encoding="utf-8")
+    (tmp_path / "capacitor_units.csv").write_text(text.replace(",delta,", ",wye,"), encoding="utf-8")
+    wye = size_bank(connection="wye", tables=load_catalogs(tmp_path)).discharge
     assert delta.start_voltage_v == pytest.approx(math.sqrt(2) * 480)
     assert wye.start_voltage_v == pytest.approx(math.sqrt(2) * 480 / math.sqrt(3))
     assert wye.capacitance_uf_per_leg == pytest.approx(3 * delta.capacitance_uf_per_leg)
@@ -338,7 +353,9 @@ def test_pipeline_properties(catalogs, data):
         return
     bank = result.banks[0]
     prot = spec.banks[0].protection
-    device_factor, conductor_factor = prot.effective_device_factor(), prot.conductor_factor
+    mult = builtin_rule_basis(spec.rules, spec.nec_edition).rules.multipliers  # the rule basis's defaults
+    device_factor = prot.device_factor or getattr(mult, prot.device).factor
+    conductor_factor = prot.conductor_factor or mult.conductor.factor
     flagged = failed(bank)
 
     # Delivered covers the need (each step covers its own target when the steps are given).

@@ -12,6 +12,8 @@ def _bank(motor_conductor_a: float) -> dict:
         "name": "Pump capacitor", "supply": {"voltage_v": 480, "frequency_hz": 60}, "need": {"kvar": 15},
         "motor": {"no_load_current_a": 27, "full_load_current_a": 92, "full_load_pf": 0.86,
                   "conductor_ampacity_a": motor_conductor_a},
+        # the table's 30 °C base ambient, so the NEC Table 310.16 values below apply without correction
+        "protection": {"conductor_ambient_c": 30},
     }
 
 

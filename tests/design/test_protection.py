@@ -43,6 +43,9 @@ def context(catalogs):
     """A CircuitContext for a rule basis and protection block, from the built-in tables."""
 
     def make(rules="nec", **protection):
+        # at the tables' 30 °C base ambient, so the published table values apply unchanged; the corrections
+        # have their own tests (test_corrections.py)
+        protection = {"conductor_ambient_c": 30.0, **protection}
         spec = Spec.model_validate({"rules": rules, "banks": [
             {"name": "B", "supply": {"voltage_v": 480, "frequency_hz": 60}, "need": {"kvar": 1},
              "protection": protection}]})
@@ -104,10 +107,12 @@ def test_nec_next_size_up_below_800_a(context):
     # Fuse: 1.65 × 264.62 = 436.6 A -> 450 A. Source: NEC 240.6(A).
     assert c.device.value == 450
     # Conductor: 1.35 × 264.62 = 357.2 A -> 500 kcmil (380 A). The next standard rating above 380 A is 400 A, and
-    # 450 A > 400 A: NEC 240.4(B) does not cover it. Two sets of 3/0 AWG (2 × 200 = 400 A) do: the next standard
-    # rating above 400 A is 450 A. Source: NEC Table 310.16 (2023), Cu 75 °C: 500 kcmil 380 A, 3/0 AWG 200 A.
+    # 450 A > 400 A: NEC 240.4(B) does not cover it. Two sets of 3/0 AWG (2 × 200 = 400 A) do not either: 400 A
+    # is itself a standard rating, so NEC 240.4(B)(2) allows no larger device. Two sets of 4/0 AWG (2 × 230 =
+    # 460 A ≥ 450 A) do. Source: NEC Table 310.16 (2023), Cu 75 °C: 500 kcmil 380 A, 3/0 AWG 200 A, 4/0 AWG 230 A.
     assert line(c, "Conductor ampacity").chosen.startswith("500 kcmil")
-    assert (c.conductor.designation, c.conductor.ampacity_a) == ("2 × 3/0 AWG", 400)
+    assert (c.conductor.designation, c.conductor.ampacity_a) == ("2 × 4/0 AWG", 460)
+    assert line(c, "Conductor, coordinated").rule.startswith("NEC 240.4")
 
 
 @pytest.mark.parametrize(("kvar", "fuse", "plain", "final"), [

@@ -286,7 +286,8 @@ def test_cautions_on_every_document(demo, demo_text, name):
 def test_worksheet_of_a_textbook_100_kvar_bank(tmp_path):
     spec = {"project": {"name": "Test plant (invented)"}, "rules": "nec",
             "banks": [{"name": "Bank A", "supply": {"voltage_v": 480, "frequency_hz": 60},
-                       "need": {"kvar": 100}, "capacitor_voltage_v": 480, "protection": {"device": "fuse"}}]}
+                       "need": {"kvar": 100}, "capacitor_voltage_v": 480,
+                       "protection": {"device": "fuse", "conductor_ambient_c": 30}}]}
     result = size_yaml(tmp_path, spec)
     text = whole(worksheet_pdf(result))
     # Source: three-phase line current I = Q/(√3·V_LL) (trade-facts formulas): 100,000 / (√3 × 480) = 120.3 A
@@ -294,7 +295,14 @@ def test_worksheet_of_a_textbook_100_kvar_bank(tmp_path):
     # Source: common practice 165% fuse factor: 1.65 × 120.28 = 198.5 A; NEC 240.6(A): next standard rating 200 A
     assert "1.65×120.3A(ratedcurrent)=198.5A" in text and "198.5A200A" in text
     # Source: NEC 460.8(A) 135%: 162.4 A; NEC Table 310.16 (2023) 75 °C: 1/0 = 150 A < 162.4 A ≤ 2/0 = 175 A
-    assert "1.35×120.3A(ratedcurrent)=162.4A" in text and "2/0AWG(Cu75°C" in text
+    assert "1.35×120.3A(ratedcurrent)=162.4A" in text and "2/0AWG(Cu75°Cinsulation" in text
+    # NEC 240.4(B)(2): 175 A is itself a standard rating, so the 200 A fuse may not protect 2/0 AWG: 3/0 AWG
+    # (200 A, NEC Table 310.16 (2023) 75 °C), device ≤ ampacity.
+    assert "upsizedfrom2/0AWGsothat200Aprotectsit" in text
+    assert "device200A≤ampacity200A" in text
+    # At the stated 30 °C (the table's base) the factors are 1 (NEC Table 310.15(B)(1), from memory) and the
+    # 75 °C terminations do not limit a 75 °C conductor (NEC 110.14(C)(1)(b))
+    assert "200A×1(30°C,75°Ccolumn)×1(3current-carryingconductors)=200.0A" in text
     # Source: delta C per leg = Q/(3·2πf·V²) (trade-facts formulas): 100 kvar, 480 V, 60 Hz -> 383.8 µF
     assert "=383.8µF" in text
     # Source: start voltage √2 × 480 V = 678.8 V (trade-facts discharge formula)

@@ -248,17 +248,28 @@ def test_step_plan_weights(count, pattern, weights):
     ("fuse", 1.5, 1.5),
     ("breaker", 2.0, 2.0),
 ])
-def test_device_factor_defaults(device, given, expected):
-    prot = Protection.model_validate({"device": device, **({"device_factor": given} if given else {})})
-    assert prot.effective_device_factor() == expected
+def test_device_factor_defaults(catalogs, device, given, expected):
+    from bankbuild.design.sizing import circuit_context
+
+    spec = Spec.model_validate({"banks": [{"name": "B", "supply": {"voltage_v": 480, "frequency_hz": 60},
+                                           "need": {"kvar": 1}, "protection": {
+                                               "device": device, **({"device_factor": given} if given else {})}}]})
+    assert circuit_context(spec, spec.banks[0], catalogs, "", "").device_factor == expected
 
 
-def test_protection_defaults():
+def test_protection_defaults(catalogs):
+    from bankbuild.design.sizing import circuit_context
+
     prot = Protection()
-    # Source: NEC 460.8(A) (conductor 135%) and NEC 460.8(C) (disconnect 135%).
-    assert prot.conductor_factor == 1.35
-    assert prot.disconnect_factor == 1.35
+    assert (prot.conductor_factor, prot.disconnect_factor) == (None, None)  # left to the rule basis
     assert prot.conductor_temp_c == 75
+    spec = Spec.model_validate({"banks": [{"name": "B", "supply": {"voltage_v": 480, "frequency_hz": 60},
+                                           "need": {"kvar": 1}}]})
+    ctx = circuit_context(spec, spec.banks[0], catalogs, "", "")
+    # Source: NEC 460.8(A) (conductor 135%) and NEC 460.8(C) (disconnect 135%), the NEC 2023 rule basis.
+    assert (ctx.conductor_factor, ctx.disconnect_factor) == (1.35, 1.35)
+    # The enclosure air the conductors sit in by default: 35 °C ambient + 10 K rise (assembly defaults).
+    assert ctx.ambient_c == 45.0
 
 
 @pytest.mark.parametrize(("pct", "p"), [(None, 0.0), (7, 0.07), (5.67, 0.0567), (14, 0.14)])
@@ -284,7 +295,7 @@ def test_bank_name_must_have_text(make_bank, make_spec, name):
 
 
 @pytest.mark.parametrize(("top", "field", "problem"), [
-    ({"rules": "cec"}, "rules", "'nec' or 'iec' (got 'cec')"),
+    ({"rules": "cec"}, "rules", "must be nec, iec, csa or a rule-basis file ending in .yaml (got 'cec')"),
     ({"nec_edition": 2017}, "nec_edition", "2023 or 2020"),
     ({"bnaks": []}, "bnaks", "unknown key"),
     ({"project": {"nme": "x"}}, "project.nme", "unknown key"),
