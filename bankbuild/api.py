@@ -171,7 +171,7 @@ def spec_rule_basis(spec_file, tables_dir: Path | None = None):
     """The rule basis the spec names: a rule-basis file beside the spec (kept inside its folder), a user's copy of
     a built-in basis in the tables folder (``rules-nec-2023.yaml`` … as ``catalog copy`` writes them), or the
     built-in file. Every problem names the file, the field and what is wrong."""
-    from bankbuild.tables.rulebasis import BUILTIN, builtin_rule_basis, read_rule_basis
+    from bankbuild.spec.rulebasis import BUILTIN, builtin_rule_basis, read_rule_basis
 
     spec = spec_file.spec
     value = spec.rules_file

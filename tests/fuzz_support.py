@@ -18,8 +18,8 @@ from bankbuild.errors import BankbuildError, SpecError
 from bankbuild.reports.jsonout import project_json
 from bankbuild.spec.model import Protection
 from bankbuild.spec.read import validate_spec
+from bankbuild.spec.rulebasis import builtin_rule_basis
 from bankbuild.tables.load import load_catalogs
-from bankbuild.tables.rulebasis import builtin_rule_basis
 
 EPS = 1e-6
 SQRT3 = math.sqrt(3)

@@ -50,7 +50,7 @@ def iec_duration(voltage_pu: float) -> str:
 def _limits(basis):
     """The capacitor voltage and current limits of a rule basis (the built-in NEC basis when none is given)."""
     if basis is None:
-        from bankbuild.tables.rulebasis import builtin_rule_basis
+        from bankbuild.spec.rulebasis import builtin_rule_basis
 
         basis = builtin_rule_basis("nec").rules
     return basis.voltage_limits

@@ -31,7 +31,7 @@ VERIFY = "typical practice: verify with the local code"
 class CircuitContext:
     """What the sizing needs from the spec, the rule basis and the tables, gathered once per bank.
 
-    ``basis`` is the rule-basis file's content (:class:`bankbuild.tables.rulebasis.RuleBasisFile`); without one
+    ``basis`` is the rule-basis file's content (:class:`bankbuild.spec.rulebasis.RuleBasisFile`); without one
     the built-in basis of ``rules`` is taken. ``conductor_rows`` are the table rows of the conductor type and
     ``ampacity_attr`` the insulation column (``ampacity_90c_a``) or ``ampacity_a``; the corrections and the
     termination limit are applied per circuit by :func:`derated_rows`.
@@ -63,7 +63,7 @@ class CircuitContext:
         """The rule basis's content (the built-in one of the family when none was given)."""
         if self.basis is not None:
             return self.basis
-        from bankbuild.tables.rulebasis import builtin_rule_basis
+        from bankbuild.spec.rulebasis import builtin_rule_basis
 
         return builtin_rule_basis(self.rules).rules
 

@@ -26,7 +26,7 @@ def rule_basis_for(spec, basis=None):
     if basis is not None:
         return basis
     from bankbuild.errors import SpecError
-    from bankbuild.tables.rulebasis import builtin_rule_basis
+    from bankbuild.spec.rulebasis import builtin_rule_basis
 
     if spec.rules_file is not None:
         raise SpecError("", "rules", f"{spec.rules!r} is a rule-basis file: read the spec with its file "

@@ -36,7 +36,7 @@ def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "
     """Size every bank of ``spec`` against ``catalogs``; raises SpecError only for spec/table mismatches.
 
     ``on_bank(done, total, name)``, if given, is called after each bank (a progress bar; no I/O here).
-    ``basis`` is the rule basis (:class:`bankbuild.tables.rulebasis.RuleBasis`) when the caller read one;
+    ``basis`` is the rule basis (:class:`bankbuild.spec.rulebasis.RuleBasis`) when the caller read one;
     otherwise the built-in basis the spec names.
     """
     basis = rule_basis_for(spec, basis)

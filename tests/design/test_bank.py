@@ -13,7 +13,7 @@ from bankbuild.design.sizing import load_pq, need_summary, size_project, step_ta
 from bankbuild.errors import SpecError
 from bankbuild.spec.model import Bank, Load, Need, Spec
 from bankbuild.spec.read import read_spec
-from bankbuild.tables.rulebasis import builtin_rule_basis
+from bankbuild.spec.rulebasis import builtin_rule_basis
 
 HP_KW = 0.7456999  # Source: NIST SP 811 (2008), Appendix B.8: 1 hp = 745.6999 W
 

@@ -271,8 +271,8 @@ class RuleBasis(BaseModel):
 
 
 def builtin_rules_dir() -> Path:
-    """The folder of the built-in rule-basis files (beside the rating tables)."""
-    return Path(__file__).parent / "data"
+    """The folder of the built-in rule-basis files: beside the rating tables, so ``catalog copy`` takes them too."""
+    return Path(__file__).resolve().parents[1] / "tables" / "data"
 
 
 def _fail(path: Path | str, field: str, problem: str) -> CatalogError:
@@ -329,7 +329,7 @@ def read_rule_basis(path: str | Path, builtin: bool = False) -> RuleBasis:
     >>> basis.label, basis.rules.coordination.next_size_up_max_a
     ('NEC 2023', 800.0)
     """
-    from bankbuild.spec.read import parse_yaml
+    from .read import parse_yaml
 
     path = Path(path)
     try:

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from bankbuild.errors import CatalogError
-from bankbuild.tables.rulebasis import BUILTIN, builtin_rule_basis, builtin_rules_dir, read_rule_basis
+from bankbuild.spec.rulebasis import BUILTIN, builtin_rule_basis, builtin_rules_dir, read_rule_basis
 
 
 @pytest.mark.parametrize("key", sorted(BUILTIN))
