@@ -4,7 +4,9 @@
 2. the demo with all its documents against importing the libraries it uses (goal: at most 1.5 times);
 3. selecting a 5,000 kvar bank of 25 steps (goal: under 100 ms);
 4. an invented plant of 500 banks: ``size --json`` (goal: a few seconds) and ``size`` with every document
-   (goal: well under a minute), and how the cost grows from 125 to 250 to 500 banks (goal: linear).
+   (goal: well under a minute), and how the cost grows from 125 to 250 to 500 banks (goal: linear);
+5. the harmonic study of a 12-step bank, every distinct step combination, plain (with the search for a tuning
+   that passes) and detuned (three tolerance corners): CPU time of the study alone (goal: under 200 ms).
 
 The commands under test and their references run in alternation (A, B, A, B, ...), so that a machine that
 slows down or speeds up during the run affects both alike; each figure is the median of the runs. The machine
@@ -173,6 +175,37 @@ def bench_selection() -> list[Row]:
                 "< 100 ms", ms < 100.0)]
 
 
+def bench_harmonics(runs: int) -> list[Row]:
+    """CPU time of the harmonic study of a sized 12-step bank (1:2:2…, 23 distinct totals), median of the runs."""
+    from bankbuild.design.harmonics import study
+    from bankbuild.design.select import unit_voltages
+    from bankbuild.design.sizing import size_project
+    from bankbuild.spec.model import Spec
+    from bankbuild.tables.load import load_catalogs
+
+    catalogs = load_catalogs()
+    supply = {"voltage_v": 480, "frequency_hz": 60, "transformer_kva": 2000, "transformer_z_pct": 6}
+    drives = {"load_current_a": 1200, "spectrum": "six_pulse_choke", "background_voltage_pct": {"h5": 1.5, "h7": 1}}
+    rows = []
+    for label, extra in (("plain, with the tuning search", {}), ("detuned 7 %, 3 tolerance corners",
+                                                                {"detuning_pct": 7})):
+        bank = {"name": "Bench", "supply": supply, "need": {"kvar": 600}, "steps": {"count": 12, "pattern": "1:2:2"},
+                "harmonics": drives} | extra
+        spec = Spec.model_validate({"banks": [bank]})
+        sized = size_project(spec, catalogs).banks[0]
+        voltages = unit_voltages(catalogs.capacitor_units, 60.0)
+        times = []
+        for _ in range(max(7, runs)):
+            start = time.process_time()
+            result, _checks = study(spec.banks[0], sized, "nec", voltages)
+            times.append((time.process_time() - start) * 1000)
+        ms = statistics.median(times)
+        rows.append(Row(f"harmonic study, 12 steps ({len(result.combinations)} combinations), {label}",
+                        f"{ms:.0f} ms", f"CPU time, median of {len(times)} runs", f"{ms:.0f} ms", "< 200 ms",
+                        ms < 200.0))
+    return rows
+
+
 def bench_plant(runs: int, work: Path, with_documents: bool) -> list[Row]:
     specs = {n: write_plant_spec(work, n) for n in (1, 125, 250, 500)}
     json_s = {}
@@ -247,7 +280,7 @@ def main(argv: list[str] | None = None) -> int:
     with tempfile.TemporaryDirectory(prefix="bankbuild-bench-") as tmp:
         work = Path(tmp)
         steps = [("start-up", lambda: [bench_startup(runs)]), ("demo", lambda: [bench_demo(runs, work)]),
-                 ("selection", bench_selection),
+                 ("selection", bench_selection), ("harmonic study", lambda: bench_harmonics(runs)),
                  ("plant", lambda: bench_plant(runs, work, with_documents=not args.quick))]
         for label, step in steps:
             print(f"… {label}", file=sys.stderr, flush=True)

@@ -340,11 +340,14 @@ def scaled_scan(shunt_y: list[complex], unit_y: list[complex], scale: float) -> 
     """
     if not (math.isfinite(scale) and scale >= 0.0):
         raise ValueError(f"scale must be a finite number >= 0, got {scale!r}")
-    out = []
-    for a, b in zip(shunt_y, unit_y, strict=True):
-        y = a + scale * b if scale else a
-        out.append(1.0 / abs(y) if y != 0 else math.inf)
-    return out
+    try:  # the common case in one comprehension (a study runs this for every combination)
+        return [1.0 / abs(a + scale * b) for a, b in zip(shunt_y, unit_y, strict=True)]
+    except ZeroDivisionError:  # an exact lossless resonance on a scan point
+        out = []
+        for a, b in zip(shunt_y, unit_y, strict=True):
+            y = a + scale * b
+            out.append(1.0 / abs(y) if y != 0 else math.inf)
+        return out
 
 
 def resonance_peaks(orders: list[float], magnitudes: list[float]) -> list[tuple[float, float]]:
@@ -358,20 +361,98 @@ def resonance_peaks(orders: list[float], magnitudes: list[float]) -> list[tuple[
     """
     if len(orders) != len(magnitudes):
         raise ValueError("orders and magnitudes must have the same length")
+    z = magnitudes
+    n = len(z)
+    # candidates in one pass (a rise onto a point not lower than the next), then each checked along its flat top
+    starts = [i for i, (a, b, c) in enumerate(zip(z, z[1:], z[2:], strict=False), start=1) if a < b >= c]
     peaks = []
-    n = len(magnitudes)
-    i = 1
-    while i < n - 1:
-        if magnitudes[i] > magnitudes[i - 1]:
-            j = i
-            while j < n - 1 and magnitudes[j + 1] == magnitudes[i]:
-                j += 1
-            if j < n - 1 and magnitudes[j + 1] < magnitudes[i]:
-                peaks.append((orders[i], magnitudes[i]))
-            i = j + 1
-        else:
-            i += 1
+    for i in starts:
+        j = i
+        while j < n - 1 and z[j + 1] == z[i]:
+            j += 1
+        if j < n - 1 and z[j + 1] < z[i]:
+            peaks.append((orders[i], z[i]))
     return peaks
+
+
+def scaled_peaks(shunt_y: list[complex], unit_y: list[complex], scale: float, orders: list[float],
+                 stride: int = 10, series_order: float | None = None) -> list[tuple[float, float]]:
+    """The resonance peaks of :func:`scaled_scan` found coarse-to-fine, without evaluating every point.
+
+    Parameters
+    ----------
+    shunt_y, unit_y : list of complex
+        As for :func:`scaled_scan`, over ``orders`` [S]
+    scale : float
+        Reference branches in service [-]
+    orders : list of float
+        The fine scan's orders, evenly spaced (:func:`scan_orders`) [-]
+    stride : int
+        Coarse step in fine points [-]
+    series_order : float, optional
+        The branch's series resonance 1/√p, searched around always: a parallel resonance can sit closer to it
+        than a stride, both between two coarse points [-]
+
+    Returns
+    -------
+    list of (float, float)
+        (order, |Z|) of each peak on the fine grid, as :func:`resonance_peaks` gives for the full scan
+
+    Notes
+    -----
+    |Z| is evaluated at every ``stride``-th order; around each coarse local maximum or minimum (and a coarse end
+    that is higher than its neighbour) the fine points within one stride are evaluated and their local maxima
+    kept, and so around ``series_order``. The result is the full scan's as long as two peaks are more than a
+    stride apart, which holds for a source with one capacitor branch: one parallel resonance, and a tuned
+    branch's series resonance next to it.
+
+    Examples
+    --------
+    >>> net = Network(0.0001, 0.01)
+    >>> orders = scan_orders()
+    >>> y0, y1 = shunt_admittances(net, orders), branch_admittances(Branch(0.25), orders)
+    >>> scaled_peaks(y0, y1, 1.0, orders) == resonance_peaks(orders, scaled_scan(y0, y1, 1.0))
+    True
+    """
+    if not (math.isfinite(scale) and scale >= 0.0):
+        raise ValueError(f"scale must be a finite number >= 0, got {scale!r}")
+    if stride < 1:
+        raise ValueError(f"stride must be >= 1, got {stride!r}")
+    n = len(orders)
+
+    def z_at(i: int) -> float:
+        y = shunt_y[i] + scale * unit_y[i]
+        return 1.0 / abs(y) if y != 0 else math.inf
+
+    coarse = list(range(0, n, stride))
+    if coarse[-1] != n - 1:
+        coarse.append(n - 1)
+    try:
+        zc = [1.0 / abs(shunt_y[i] + scale * unit_y[i]) for i in coarse]
+    except ZeroDivisionError:
+        zc = [z_at(i) for i in coarse]
+    # coarse maxima, and coarse minima: a tuned branch's series resonance (a notch) can hide a peak just below it
+    spots = [k for k in range(1, len(zc) - 1) if zc[k - 1] < zc[k] >= zc[k + 1] or zc[k - 1] > zc[k] <= zc[k + 1]]
+    if len(zc) > 1 and zc[0] >= zc[1]:
+        spots.append(0)
+    if len(zc) > 1 and zc[-1] >= zc[-2]:
+        spots.append(len(zc) - 1)
+    centres = [coarse[k] for k in spots]
+    if series_order is not None and orders[0] <= series_order <= orders[-1]:
+        centres.append(round((series_order - orders[0]) / (orders[1] - orders[0])))  # evenly spaced orders
+    found: dict[int, float] = {}
+    for centre in centres:
+        lo = max(0, centre - stride - 1)
+        hi = min(n - 1, centre + stride + 1)
+        z = [z_at(i) for i in range(lo, hi + 1)]
+        for j in range(1, len(z) - 1):
+            if z[j - 1] < z[j] >= z[j + 1] and 0 < lo + j < n - 1:
+                m = j
+                while m < len(z) - 1 and z[m + 1] == z[j]:
+                    m += 1
+                if m < len(z) - 1 and z[m + 1] < z[j]:
+                    found[lo + j] = z[j]
+    return [(orders[i], found[i]) for i in sorted(found)]
 
 
 def bus_voltages(network: Network, current_a: dict[int, float], background_v: dict[int, float],

@@ -107,12 +107,13 @@ class _Combo:
     amplification: dict[int, float]
     duty: dict[str, hm.CapacitorDuty]  # per corner
     current_per_kvar_a: float
-    scan: list[float] | None  # nominal |Z|, when kept
+    current_corner: str
 
 
-def _evaluate(case: _Case, combos: list[tuple[float, list[int]]], with_scan: bool) -> list[_Combo]:
-    """Every combination at every corner: scan peaks, bus voltages, capacitor duty, current per kvar."""
-    orders = hm.scan_orders()
+def _evaluate(case: _Case, combos: list[tuple[float, list[int]]], orders: list[float] | None) -> list[_Combo]:
+    """Every combination at every corner: scan peaks (over ``orders``; None: no scan), bus voltages, capacitor
+    duty, current per kvar."""
+    with_scan = orders is not None
     bare = case.network()
     shunt_y = hm.shunt_admittances(bare, orders) if with_scan else []
     unit_y = {name: hm.branch_admittances(case.branch(1.0, kl, kc), orders)
@@ -121,17 +122,14 @@ def _evaluate(case: _Case, combos: list[tuple[float, list[int]]], with_scan: boo
     for q_c, members in combos:
         kvar = sum(case.delivered_kvar[i - 1] for i in members)
         peaks_by_corner = {}
-        nominal_scan = None
         if with_scan:
-            for name, _, _ in case.corners:
-                z = hm.scaled_scan(shunt_y, unit_y[name], q_c)
-                peaks_by_corner[name] = hm.resonance_peaks(orders, z)
-                if name == "nominal":
-                    nominal_scan = z
+            for name, kl, kc in case.corners:
+                peaks_by_corner[name] = hm.scaled_peaks(shunt_y, unit_y[name], q_c, orders,
+                                                        series_order=case.branch(1.0, kl, kc).series_resonance_order)
         bus_v: dict[int, float] = {}
         amp: dict[int, float] = {}
         duty = {}
-        per_kvar = 0.0
+        per_kvar, per_kvar_corner = 0.0, "nominal"
         for name, kl, kc in case.corners:
             net = case.network((case.branch(q_c, kl, kc),))
             v = hm.bus_voltages(net, case.currents_a, case.background_v)
@@ -141,13 +139,15 @@ def _evaluate(case: _Case, combos: list[tuple[float, list[int]]], with_scan: boo
             full = {1: case.phase_v, **v}
             branch = net.branches[0]
             duty[name] = hm.capacitor_duty(branch, full, 1.0, case.frequency_hz / case.rated_frequency_hz, kc)
-            per_kvar = max(per_kvar, hm.branch_current_rms_a(branch, full) / kvar)
+            current = hm.branch_current_rms_a(branch, full) / kvar
+            if current > per_kvar:
+                per_kvar, per_kvar_corner = current, name
         all_peaks = [h for ps in peaks_by_corner.values() for h, _ in ps]
         out.append(_Combo(
             steps=members, cap_kvar=q_c, kvar=kvar, peaks=peaks_by_corner.get("nominal", []),
             peak_range=[min(all_peaks), max(all_peaks)] if (all_peaks and len(case.corners) > 1) else None,
             bus_v=bus_v, thd_pct=hm.thd_pct(bus_v, case.phase_v), amplification=amp, duty=duty,
-            current_per_kvar_a=per_kvar, scan=nominal_scan))
+            current_per_kvar_a=per_kvar, current_corner=per_kvar_corner))
     return out
 
 
@@ -211,7 +211,10 @@ def _case(bank, result, cap_kvar, delivered, p: float, rules: str, f_r: float) -
     minus, plus = (t / 100.0 for t in CAPACITANCE_TOLERANCE_PCT[rules])
     corners = (("nominal", 1.0, 1.0),)
     if p:
-        corners += (("low tuning", 1.0 + t_l, 1.0 + plus), ("high tuning", 1.0 - t_l, 1.0 - minus))
+        pct_l = bank.assembly.reactor_tolerance_pct
+        low = f"low tuning (reactor +{pct_l:g} %, capacitance +{100 * plus:g} %)"
+        high = f"high tuning (reactor −{pct_l:g} %, capacitance −{100 * minus:g} %)"
+        corners += ((low, 1.0 + t_l, 1.0 + plus), (high, 1.0 - t_l, 1.0 - minus))
     return _Case(voltage_v=v_s, frequency_hz=supply.frequency_hz, rated_frequency_hz=f_r, source_r_ohm=r_t + r_u,
                  source_x_ohm=x_t + x_u,
                  damping_r_ohm=hm.damping_resistance_ohm(spec.damping_kw, v_s) if spec.damping_kw else None,
@@ -247,7 +250,7 @@ def _candidates(bank, result, rules: str, f_r: float, available_v: list[float]) 
         cap_kvar = [q * (1.0 - p) for q in delivered]
         case = _case(bank, result, cap_kvar, delivered, p, rules, f_r)
         combos, _ = _combinations(cap_kvar)
-        evaluated = _evaluate(case, combos, with_scan=False)
+        evaluated = _evaluate(case, combos, None)
         bare_v = hm.bus_voltages(case.network(), case.currents_a, case.background_v, with_bank=False)
         limits = _distortion(evaluated, bare_v, case.phase_v)
         worst_thd = max(c.thd_pct for c in evaluated)
@@ -316,14 +319,16 @@ def _recommend(bank, result, case: _Case, failing: bool, rules: str, f_r: float,
                                   candidates=candidates, text=text)
 
 
-def _chart(combos: list[_Combo], bare_scan: list[float], marked: list[int]) -> HarmonicScan:
+def _chart(case: _Case, orders: list[float], combos: list[_Combo], marked: list[int]) -> HarmonicScan:
     """A few curves for the chart: the bus without the bank, then combinations spread over the kvar range."""
-    orders = hm.scan_orders()
     if len(combos) <= CHART_CURVES:
         chosen = combos
     else:
         picks = {round(i * (len(combos) - 1) / (CHART_CURVES - 1)) for i in range(CHART_CURVES)}
         chosen = [combos[i] for i in sorted(picks)]
+    shunt_y = hm.shunt_admittances(case.network(), orders)
+    unit_y = hm.branch_admittances(case.branch(1.0), orders)
+    bare_scan = hm.scaled_scan(shunt_y, unit_y, 0.0)
     keep = set(range(0, len(orders), CHART_THIN))
     for c in chosen:
         for h, _ in c.peaks:
@@ -331,8 +336,8 @@ def _chart(combos: list[_Combo], bare_scan: list[float], marked: list[int]) -> H
     index = sorted(i for i in keep if i < len(orders))
     curves = [ScanCurve(label="without the bank", kvar=None, impedance_ohm=[bare_scan[i] for i in index])]
     for c in chosen:
-        curves.append(ScanCurve(label=f"{c.kvar:.0f} kvar", kvar=c.kvar,
-                                impedance_ohm=[min(c.scan[i], 1e6) for i in index]))
+        z = hm.scaled_scan(shunt_y, unit_y, c.cap_kvar)
+        curves.append(ScanCurve(label=f"{c.kvar:.0f} kvar", kvar=c.kvar, impedance_ohm=[min(z[i], 1e6) for i in index]))
     return HarmonicScan(orders=[orders[i] for i in index], curves=curves, marked_orders=marked,
                         resolution=hm.SCAN_STEP)
 
@@ -363,7 +368,8 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
     delivered = [s.kvar for s in result.steps]
     case = _case(bank, result, cap_kvar, delivered, p, rules, f_r)
     combos_in, complete = _combinations(cap_kvar)
-    combos = _evaluate(case, combos_in, with_scan=True)
+    orders = hm.scan_orders()
+    combos = _evaluate(case, combos_in, orders)
     bare = case.network()
     bare_v = hm.bus_voltages(bare, case.currents_a, case.background_v, with_bank=False)
     bare_thd = hm.thd_pct(bare_v, case.phase_v)
@@ -385,7 +391,8 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
         limit_voltage_rms_pu=lim_v, limit_voltage_peak_pu=lim_peak, limit_current_rms_pu=lim_i, limit_kvar_pu=lim_q,
         rule=duty_rule, ok=duty_ok)
 
-    per_kvar = max(c.current_per_kvar_a for c in combos)
+    top = max(combos, key=lambda c: c.current_per_kvar_a)
+    per_kvar = top.current_per_kvar_a
     steps = []
     for s in result.steps:
         rms = per_kvar * s.kvar
@@ -402,7 +409,6 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
     recommendation = _recommend(bank, result, case, failing, rules, f_r, available_v)
 
     marked = sorted({h for h in (*case.currents_a, *case.background_v)} | set(sysc.CHARACTERISTIC_HARMONICS))
-    bare_scan = hm.frequency_scan(bare, hm.scan_orders())
     combinations = []
     for c in combos:
         peak = max(c.peaks, key=lambda t: t[1]) if c.peaks else None
@@ -449,10 +455,11 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
         source_x_ohm=case.source_x_ohm, damping_kw=spec.damping_kw, reactor_q=spec.reactor_q,
         reactor_tolerance_pct=bank.assembly.reactor_tolerance_pct,
         capacitance_tolerance_pct=list(CAPACITANCE_TOLERANCE_PCT[rules]), combinations=combinations,
-        combinations_complete=complete, worst=worst, steps=steps, main_current_rms_a=main_rms,
+        combinations_complete=complete, worst=worst, steps=steps, current_corner=top.current_corner,
+        main_current_rms_a=main_rms,
         main_device_rating_a=result.main.device_rating_a,
         main_conductor_ampacity_a=result.main.conductor_ampacity_a, limits=limits,
-        scan=_chart(combos, bare_scan, marked), recommendation=recommendation, assumptions=assumptions)
+        scan=_chart(case, orders, combos, marked), recommendation=recommendation, assumptions=assumptions)
     return study_result, _checks(study_result, result, p)
 
 
@@ -488,8 +495,9 @@ def _checks(study_result: HarmonicStudy, result, p: float) -> list[Check]:
     if p:
         rule += " and the reactor's thermal current (its linearity current is not in the reactor table: ask the " \
                 "maker for it above the peak of this current)"
+    corner = study_result.current_corner
     checks.append(Check(name="Currents with harmonics", ok=not over and main_ok, rule=rule,
-                        detail="; ".join(texts)))
+                        detail=f"worst combination, {corner} corner of the tolerances: " + "; ".join(texts)))
     rec = study_result.recommendation
     if rec.kind == "margin":
         ok = rec.lowest_harmonic is None or rec.tuning_order_high <= (1.0 - BAND) * rec.lowest_harmonic + 1e-9

@@ -135,11 +135,9 @@ def nice_ticks(low: float, high: float, count: int = 6) -> tuple[float, ...]:
     power = 10 ** math.floor(math.log10(raw))
     step = next(m * power for m in (1, 2, 2.5, 5, 10) if m * power >= raw * 0.75)
     first = math.floor(low / step + 1e-9) * step
-    ticks = []
-    value = first
-    while value < high + step * 0.999:
-        ticks.append(float(f"{value:.12g}") + 0.0)
-        value = first + len(ticks) * step
+    ticks = [float(f"{first:.12g}") + 0.0]
+    while ticks[-1] < high - step * 1e-6:  # until a tick reaches the top (a hair short counts as on it)
+        ticks.append(float(f"{first + len(ticks) * step:.12g}") + 0.0)
     return tuple(ticks)
 
 

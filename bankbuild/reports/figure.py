@@ -310,7 +310,7 @@ def to_drawing(figure: Figure):
     def dash(name: str):
         return list(DASHES.get(name, ())) or None
 
-    drawing = Drawing(figure.width, figure.height)
+    drawing = Drawing(figure.width, figure.height, initialFontName=FONT)
     for item in figure.items:
         if isinstance(item, Line):
             drawing.add(RLine(item.x1, item.y1, item.x2, item.y2, strokeColor=colour(item.colour),

@@ -36,6 +36,7 @@ from bankbuild.reports.pdf_common import (
     para_text,
 )
 from bankbuild.reports.pdf_worksheet_assembly import assembly_sections
+from bankbuild.reports.pdf_worksheet_harmonics import harmonic_sections
 from bankbuild.reports.pdf_worksheet_system import system_sections
 from bankbuild.results.sizing import BankResult, ProjectResult, SizingLine, Step
 
@@ -258,7 +259,9 @@ def bank_section(index: int, total: int, bank: BankResult, result: ProjectResult
     number = 5 if detuned is not None else 4
     story += system_sections(bank, width, number)
     story += assembly_sections(bank, width)
-    story += heading(f"{number + 2}. All checks of this bank") + [checks_table(bank, width)]
+    harmonics = harmonic_sections(bank, width, number + 2)
+    story += harmonics
+    story += heading(f"{number + (3 if harmonics else 2)}. All checks of this bank") + [checks_table(bank, width)]
     return story
 
 

@@ -135,6 +135,7 @@ class HarmonicStudy(_Frozen):
     combinations_complete: bool
     worst: HarmonicDuty
     steps: list[HarmonicStepCurrent]
+    current_corner: str  # the tolerance corner that gave the highest current per kvar
     main_current_rms_a: float
     main_device_rating_a: float
     main_conductor_ampacity_a: float

@@ -158,6 +158,19 @@ def test_scaled_scan_is_the_parallel_branches(case, scale):
 
 
 @PROPERTY
+@given(networks(), st.floats(0.1, 10.0))
+def test_coarse_to_fine_peaks_equal_the_full_scan(case, scale):
+    """One branch (what a study scans per combination): the coarse-to-fine search finds the full scan's peaks."""
+    _, _, net = case
+    orders = hm.scan_orders()
+    y0 = hm.shunt_admittances(net, orders)
+    y1 = hm.branch_admittances(net.branches[0], orders)
+    series = net.branches[0].series_resonance_order
+    assert hm.scaled_peaks(y0, y1, scale, orders, series_order=series) == hm.resonance_peaks(
+        orders, hm.scaled_scan(y0, y1, scale))
+
+
+@PROPERTY
 @given(networks())
 def test_peak_with_losses_is_the_nodal_maximum(case):
     """With resistance, the scan's peaks are the local maxima of the nodal |Z| on the same 0.01 grid."""
