@@ -195,7 +195,12 @@ def simulate_controller(times_s: Sequence[float], need: Sequence[float], room: S
     closed = [False] * n
     changed_s = [-math.inf] * n  # when each step last changed state
     connected = fixed_kvar
-    for i, (t, want, top) in enumerate(zip(times_s, need, room, strict=True)):
+    low, high, floor = connected - b_out - EPS, connected + b_in + EPS, connected - EPS
+    for i in range(len(need)):
+        want = need[i]
+        if low <= want <= high and room[i] >= floor:
+            continue  # nothing to do: the fast path of almost every interval
+        t, top = times_s[i], room[i]
         d = want - connected
         while d > b_in + EPS:  # switch in
             best = -1
@@ -236,4 +241,5 @@ def simulate_controller(times_s: Sequence[float], need: Sequence[float], room: S
             d = want - connected
         if connected > top + EPS:
             lead_flags.append(i)
+        low, high, floor = connected - b_out - EPS, connected + b_in + EPS, connected - EPS
     return ControllerRun(events=tuple(events), operations=tuple(operations), lead_flags=tuple(lead_flags))

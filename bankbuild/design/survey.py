@@ -65,7 +65,7 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
            share: float = DEFAULT_SHARE, pf_lead_limit: float = DEFAULT_LEAD_LIMIT,
            step_count: int | None = None, pattern: str = DEFAULT_PATTERN,
            switch_in_share: float = DEFAULT_SWITCH_IN_SHARE, demand_interval_s: float = DEMAND_INTERVAL_S,
-           rules: str = "nec", name: str = "Surveyed bank") -> SurveyResult:
+           rules: str = "nec", name: str = "Surveyed bank", tables: Sequence[str] = ()) -> SurveyResult:
     """Need, proposed bank, simulation and months of one file of readings.
 
     Parameters
@@ -97,6 +97,8 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
         Rule basis written into the spec (``nec`` or ``iec``).
     name : str
         The bank's name in the spec.
+    tables : sequence of str
+        The rating tables used, as "file sha256", for the documents' provenance.
 
     Returns
     -------
@@ -105,6 +107,8 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
     import numpy as np
 
     _option("--voltage-v", voltage_v, 100, 1000)
+    if rules not in ("nec", "iec"):
+        raise OptionError("", "--rules", f"{rules!r} is not one of nec, iec")
     _option("--pf-target", pf_target, 0, 1, low_open=True)
     _option("--frequency-hz", frequency_hz, 45, 65)
     _option("--share", share, 0, 1, low_open=True)
@@ -152,9 +156,11 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
     monthly = monthly_lines(data.local_s, data.interval_s, p, q, q_after, demand_interval_s)
     charts = _charts(need, p[importing], q[importing], q_after[importing])
     checks = _checks(figures, simulation, proposed, data, share)
-    spec = _spec(name, rules, voltage_v, frequency_hz, proposed, float(p[low]), light)
+    peak_a = float(np.hypot(p, q).max()) * 1000 / (math.sqrt(3) * voltage_v)
+    spec = _spec(name, rules, voltage_v, frequency_hz, proposed, float(p[low]), light, peak_a)
     return SurveyResult(
-        name=name, version=__version__, supply_voltage_v=voltage_v, frequency_hz=frequency_hz, pf_target=pf_target,
+        name=name, version=__version__, rules=rules, tables=list(tables), supply_voltage_v=voltage_v,
+        frequency_hz=frequency_hz, pf_target=pf_target,
         intervals=data.intervals, interval_s=data.interval_s, data=_data_summary(data), need_kvar=figures,
         light_load_kvar=light, light_load_at=_stamp(data, low), proposed=proposed, simulation=simulation,
         monthly=monthly, formulas=_formulas(demand_interval_s), assumptions=_assumptions(data, voltage_v),
@@ -317,8 +323,9 @@ def _checks(figures: NeedFigures, sim: Simulation, proposed: ProposedBank, data,
         checks.append(Check(
             name=f"Switching duty, step {d.step} ({d.kvar:g} kvar)", ok=d.per_year <= CAPACITOR_SWITCHINGS_PER_YEAR
             and (d.contactor_life_years is None or d.contactor_life_years >= CONTACTOR_LIFE_YEARS),
-            rule=f"≤ {CAPACITOR_SWITCHINGS_PER_YEAR:,} a year ({CAPACITOR_SOURCE}); contactor ≥ "
-                 f"{CONTACTOR_LIFE_YEARS:g} years at {CONTACTOR_ENDURANCE_OPS:,} operations ({CONTACTOR_SOURCE})",
+            rule=f"≤ {CAPACITOR_SWITCHINGS_PER_YEAR:,} a year (IEC 60831-1, from memory); contactor ≥ "
+                 f"{CONTACTOR_LIFE_YEARS:g} years at {CONTACTOR_ENDURANCE_OPS:,} operations (common practice, from "
+                 "memory)",
             detail=f"{d.operations:,} closings in {sim.years:.2f} years = {d.per_year:,.0f} a year"
                    + (f"; contactor life about {d.contactor_life_years:,.0f} years" if d.contactor_life_years
                       else "")))
@@ -330,8 +337,9 @@ def _checks(figures: NeedFigures, sim: Simulation, proposed: ProposedBank, data,
 
 
 def _spec(name: str, rules: str, voltage_v: float, frequency_hz: float, proposed: ProposedBank,
-          light_kw: float, light_kvar: float) -> dict:
-    """The spec ``size`` takes: the need, the steps (the fixed part first) and the light load."""
+          light_kw: float, light_kvar: float, peak_a: float) -> dict:
+    """The spec ``size`` takes: the need, the steps (the fixed part first), the light load, and the largest load
+    current of the data for the controller's current transformer."""
     if proposed.total_kvar <= 0:
         return {}
     bank: dict = {"name": name, "supply": {"voltage_v": voltage_v, "frequency_hz": frequency_hz},
@@ -342,6 +350,8 @@ def _spec(name: str, rules: str, voltage_v: float, frequency_hz: float, proposed
         bank["steps"] = parts
     elif proposed.fixed_kvar > 0:
         bank["need"] = {"kvar": proposed.fixed_kvar}
+    if proposed.steps:
+        bank["assembly"] = {"ct_load_current_a": math.ceil(peak_a)}
     if proposed.fixed_kvar > 0:
         bank["light_load"] = {"kw": round(max(light_kw, 0.0), 2), "kvar": round(light_kvar, 2), "fixed_steps": 1}
     return {"project": {"name": f"{name}: bank proposed from metered data"}, "rules": rules, "banks": [bank]}
@@ -351,8 +361,9 @@ def _data_summary(data) -> DataSummary:
     c = data.cleaning
     first, last = _stamp(data, 0), _stamp(data, data.intervals - 1)
     return DataSummary(
-        file=data.path, columns=[f"{col.role}: {col.header!r}" + (f" × {col.scale:g}" if col.scale != 1 else "")
-                                 for col in data.columns],
+        file=data.path, sha256=data.sha256,
+        columns=[f"{col.role}: {col.header!r}" + (f" × {col.scale:g}" if col.scale != 1 else "")
+                 for col in data.columns],
         kvar_sign=data.kvar_sign, utc_offsets=data.has_offsets, rows_read=c.rows_read, rows_used=c.rows_used,
         missing_rows=c.missing_rows, impossible_rows=c.impossible_rows, duplicate_rows=c.duplicate_rows,
         conflicting_rows=c.conflicting_rows, gaps=c.gaps, gap_time_h=c.gap_time_s / 3600,
@@ -368,9 +379,10 @@ def _formulas(demand_interval_s: float) -> list[str]:
         "light-load kvar: the smallest Q of any interval (zero when some interval already leads): "
         "a fixed part within it never makes the PF leading",
         "PF after: P / √(P² + (Q − Q_bank)²), Q_bank the fixed part plus the steps the controller has on",
-        "month: kWh = Σ max(P, 0)·Δt, kvarh = Σ max(Q, 0)·Δt (lagging only), billing PF = kWh / √(kWh² + kvarh²)",
-        f"kVA demand: the month's largest √(P̄² + Q̄²) over {demand_interval_s / 60:g}-minute intervals of the "
-        "local clock (P̄, Q̄ the averages of the readings in each)",
+        "month: kWh = sum of max(P, 0)·Δt, kvarh = sum of max(Q, 0)·Δt (lagging only), "
+        "billing PF = kWh / √(kWh² + kvarh²)",
+        f"kVA demand: the month's largest √(P_avg² + Q_avg²) over {demand_interval_s / 60:g}-minute intervals of "
+        "the local clock (P_avg, Q_avg the averages of the readings in each)",
     ]
 
 

@@ -17,6 +17,7 @@ class DataSummary(Frozen):
     """The file read and what cleaning did."""
 
     file: str
+    sha256: str
     columns: list[str]  # e.g. "kW: 'P (kW)'", in the order time, first quantity, second quantity
     kvar_sign: str
     utc_offsets: bool
@@ -133,6 +134,8 @@ class SurveyResult(Frozen):
 
     name: str
     version: str
+    rules: str
+    tables: list[str]  # each rating table used: "file sha256"
     supply_voltage_v: float
     frequency_hz: float
     pf_target: float

@@ -1,4 +1,5 @@
-"""Invented metered readings for the demo: a year of a motor-heavy packaging line at the demo plant.
+"""Invented metered readings for the demo: a year of the demo plant's motor-heavy packaging line (the bank
+"Packaging line automatic bank" of the demo spec).
 
 Deterministic (a seeded generator of the standard library), so the demo and the benchmark see the same data every
 run. The site and the figures are made up. The profile: a base load day and night (lighting, compressed air,
@@ -67,6 +68,9 @@ def demo_readings(minutes: int = 15, year: int = 2026, seed: int = 20261201):
 
 def write_demo_csv(path, minutes: int = 15, year: int = 2026) -> int:
     """Write the readings as CSV (kW and kvar, lagging positive); returns the number of readings."""
+    from pathlib import Path
+
+    Path(path).parent.mkdir(parents=True, exist_ok=True)
     count = 0
     with open(path, "w", encoding="utf-8", newline="\n") as handle:
         handle.write(HEADER + "\n")

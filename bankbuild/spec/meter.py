@@ -93,6 +93,7 @@ class MeterData:
     kvar_sign: str
     has_offsets: bool
     cleaning: Cleaning
+    sha256: str = ""
 
     @property
     def intervals(self) -> int:
@@ -158,8 +159,10 @@ def pick_columns(path: str, headers: list[str], mapped: dict[str, str]) -> tuple
                                    f"with --kw-column, --kvar-column, --kva-column, --pf-column{hint}")
 
 
-def _read_table(path: Path, label: str):
-    """The file as a DataFrame of raw cells (CSV: text; XLSX: as the sheet holds them)."""
+def _read_table(path: Path, label: str, usecols: list[str] | None = None):
+    """The file as a DataFrame (XLSX: as the sheet holds it; CSV: numbers parsed by pandas' C reader, a column
+    with any cell that is not a number left as text). ``usecols``: CSV columns to read (``None``: the header only).
+    """
     import pandas as pd
 
     suffix = path.suffix.lower()
@@ -167,8 +170,11 @@ def _read_table(path: Path, label: str):
         if suffix in (".xlsx", ".xlsm"):
             return pd.read_excel(path, sheet_name=0, engine="openpyxl")
         if suffix in (".csv", ".txt"):
-            return pd.read_csv(path, dtype=str, skip_blank_lines=False, encoding="utf-8-sig",
-                               keep_default_na=False, na_values=[""])
+            if usecols is None:
+                return pd.read_csv(path, nrows=0, encoding="utf-8-sig")
+            return pd.read_csv(path, usecols=usecols, dtype={usecols[0]: str}, skip_blank_lines=False,
+                               encoding="utf-8-sig", keep_default_na=False, na_values=[""], engine="c",
+                               low_memory=False)[usecols]
     except UnicodeDecodeError:
         raise DataError(label, "", "not UTF-8 text; save the readings as UTF-8 CSV or as XLSX") from None
     except (ValueError, OSError, KeyError) as exc:
@@ -287,12 +293,16 @@ def read_meter_data(path: Path | str, columns: dict[str, str] | None = None,
     except OSError as exc:
         raise DataError(label, "", f"cannot be read ({exc.strerror or exc})") from None
     frame = _read_table(path, label)
+    sha256 = _sha256(path, label)
     headers = [str(h) for h in frame.columns]
     frame.columns = headers
-    if len(set(headers)) != len(headers):
-        twice = next(h for h in headers if headers.count(h) > 1)
-        raise DataError(label, "row 1", f"column {twice!r} appears twice in the header")
+    twice = [h for h in headers if headers.count(h) > 1 or re.fullmatch(r".+\.\d+", h) and h.rsplit(".", 1)[0]
+             in headers]
+    if twice:
+        raise DataError(label, "row 1", f"column {twice[0].rsplit('.', 1)[0]!r} appears twice in the header")
     time_col, (a, b) = pick_columns(label, headers, dict(columns or {}))
+    if path.suffix.lower() not in (".xlsx", ".xlsm"):
+        frame = _read_table(path, label, [time_col.header, a.header, b.header])
     if len(frame) == 0:
         raise DataError(label, "", "has a header but no readings")
     t, local, aware, offsets = _times(frame, time_col, label)
@@ -390,7 +400,21 @@ def read_meter_data(path: Path | str, columns: dict[str, str] | None = None,
         exporting_intervals=exporting, offset_changes=offset_changes, notes=tuple(notes))
     return MeterData(path=label, time_s=t, local_s=local, active_kw=p, reactive_kvar=q, rows=rows,
                      interval_s=interval, columns=(time_col, a, b), pair=(a.role, b.role), kvar_sign=kvar_sign,
-                     has_offsets=aware, cleaning=cleaning)
+                     has_offsets=aware, cleaning=cleaning, sha256=sha256)
+
+
+def _sha256(path: Path, label: str) -> str:
+    """SHA-256 of the file as read, for the documents' provenance."""
+    import hashlib
+
+    digest = hashlib.sha256()
+    try:
+        with path.open("rb") as handle:
+            for block in iter(lambda: handle.read(1 << 20), b""):
+                digest.update(block)
+    except OSError as exc:
+        raise DataError(label, "", f"cannot be read ({exc.strerror or exc})") from None
+    return digest.hexdigest()
 
 
 def _power(role_a: str, role_b: str, x, y):
