@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 
-from bankbuild import __version__
+from bankbuild._version import __version__
 from bankbuild.calc import survey as sv
 from bankbuild.design import stepplan
 from bankbuild.design.select import pick_unit_voltage, unit_voltages
