@@ -12,10 +12,10 @@ import math
 from dataclasses import dataclass
 from typing import Sequence  # noqa: UP035 (calc imports only math, dataclasses, typing)
 
+from . import EPS
 from ._domain import finite_nonneg, finite_pos
 from .power import tan_phi
 
-EPS = 1e-9
 
 def need_kvar(active_kw, reactive_kvar, pf_target: float):
     """kvar to add to bring a load to the target power factor (negative when it already meets it).

@@ -274,9 +274,9 @@ def survey(
 
     columns = {"time": time_column, "kw": kw_column, "kvar": kvar_column, "kva": kva_column, "pf": pf_column}
     typer.echo(run_survey(data, out, json, catalogs, columns, kvar_sign, voltage_v=voltage_v, pf_target=pf_target,
-                          frequency_hz=frequency_hz, share=share, pf_lead_limit=pf_lead_limit, step_count=steps,
+                          frequency_hz=frequency_hz, share=share, pf_lead_limit=pf_lead_limit, steps=steps,
                           pattern=pattern, switch_in_share=switch_in_share,
-                          demand_interval_s=demand_interval_min * 60, rules=rules, name=name))
+                          demand_interval_min=demand_interval_min, rules=rules, name=name))
 
 
 @catalog_app.command("check")

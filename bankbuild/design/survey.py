@@ -12,10 +12,11 @@ from collections.abc import Sequence
 
 from bankbuild._version import __version__
 from bankbuild.calc import survey as sv
+from bankbuild.calc.discharge import discharge_tau_s
+from bankbuild.calc.switching import delay_setting_s, reconnection_times_s
 from bankbuild.design import stepplan
 from bankbuild.design.select import pick_unit_voltage, unit_voltages
 from bankbuild.design.survey_months import DEMAND_INTERVAL_S, monthly_lines
-from bankbuild.design.switching import delay_setting_s, discharge_tau_s, reconnection_times_s
 from bankbuild.errors import DataError, OptionError
 from bankbuild.results.sizing import Check
 from bankbuild.results.survey import (
@@ -63,8 +64,8 @@ def _option(field: str, value: float, low: float, high: float, low_open: bool = 
 
 def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequency_hz: float = 60.0,
            share: float = DEFAULT_SHARE, pf_lead_limit: float = DEFAULT_LEAD_LIMIT,
-           step_count: int | None = None, pattern: str = DEFAULT_PATTERN,
-           switch_in_share: float = DEFAULT_SWITCH_IN_SHARE, demand_interval_s: float = DEMAND_INTERVAL_S,
+           steps: int | None = None, pattern: str = DEFAULT_PATTERN,
+           switch_in_share: float = DEFAULT_SWITCH_IN_SHARE, demand_interval_min: float = DEMAND_INTERVAL_S / 60,
            rules: str = "nec", name: str = "Surveyed bank", tables: Sequence[str] = ()) -> SurveyResult:
     """Need, proposed bank, simulation and months of one file of readings.
 
@@ -84,15 +85,15 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
         Share of importing intervals in which the bank must meet the target; it sizes the total [-].
     pf_lead_limit : float
         Leading power factor the controller must not pass [-].
-    step_count : int, optional
+    steps : int, optional
         Switched steps; default 6, fewer when the resolution step would be below the smallest unit.
     pattern : str
         Step weights, ``equal`` or like ``1:2:2`` (the last weight repeats).
     switch_in_share : float
         Missing kvar that switches a step in, as a share s of the smallest step; the surplus that switches one
         out is (1 − s) of it, so the two add up to the smallest step [-].
-    demand_interval_s : float
-        Tariff demand interval for the kVA demand [s].
+    demand_interval_min : float
+        Tariff demand interval for the kVA demand [min].
     rules : str
         Rule basis written into the spec (``nec`` or ``iec``).
     name : str
@@ -106,21 +107,23 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
     """
     import numpy as np
 
-    _option("--voltage-v", voltage_v, 100, 1000)
+    _option("voltage_v", voltage_v, 100, 1000)
     if rules not in ("nec", "iec"):
-        raise OptionError("", "--rules", f"{rules!r} is not one of nec, iec")
-    _option("--pf-target", pf_target, 0, 1, low_open=True)
-    _option("--frequency-hz", frequency_hz, 45, 65)
-    _option("--share", share, 0, 1, low_open=True)
-    _option("--pf-lead-limit", pf_lead_limit, 0, 1, low_open=True)
-    _option("--switch-in-share", switch_in_share, 0, 1)
-    _option("--demand-interval-min", demand_interval_s / 60, 1, 1440)
-    if step_count is not None:
-        _option("--steps", step_count, 1, 32)
+        raise OptionError("", "rules", f"{rules!r} is not one of nec, iec")
+    _option("pf_target", pf_target, 0, 1, low_open=True)
+    _option("frequency_hz", frequency_hz, 45, 65)
+    _option("share", share, 0, 1, low_open=True)
+    _option("pf_lead_limit", pf_lead_limit, 0, 1, low_open=True)
+    _option("switch_in_share", switch_in_share, 0, 1)
+    _option("demand_interval_min", demand_interval_min, 1, 1440)
+    if steps is not None:
+        _option("steps", steps, 1, 32)
+        if steps != int(steps):
+            raise OptionError("", "steps", f"{steps:g} is not a whole number")
     try:
-        weights = StepPlan(count=step_count or DEFAULT_STEP_COUNT, pattern=pattern).weights()
+        weights = StepPlan(count=int(steps or DEFAULT_STEP_COUNT), pattern=pattern).weights()
     except ValueError as exc:
-        raise OptionError("", "--pattern", str(exc).splitlines()[-1].strip()) from None
+        raise OptionError("", "pattern", str(exc).splitlines()[-1].strip()) from None
 
     p, q, t = data.active_kw, data.reactive_kvar, data.time_s
     importing = p > 0
@@ -138,7 +141,7 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
     light = max(0.0, float(q[low]))
 
     proposed, unit_rows = _propose(figures.at_share, light, units, voltage_v, frequency_hz, weights,
-                                   step_count is None)
+                                   steps is None)
     delay_s, delay_rule = _delay(unit_rows, proposed.unit_voltage_v)
     room = sv.room_kvar(p_in, q, pf_lead_limit)
     q_min = min(proposed.steps) if proposed.steps else 0.0
@@ -153,6 +156,7 @@ def survey(data, *, voltage_v: float, pf_target: float, units: Sequence, frequen
     q_after = q - connected
     simulation = _simulation(data, run, proposed, p, q, q_after, importing, pf_target, pf_lead_limit,
                              switch_in_share, delay_s, delay_rule)
+    demand_interval_s = demand_interval_min * 60
     monthly = monthly_lines(data.local_s, data.interval_s, p, q, q_after, demand_interval_s)
     charts = _charts(need, p[importing], q[importing], q_after[importing])
     checks = _checks(figures, simulation, proposed, data, share)

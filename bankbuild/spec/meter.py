@@ -24,7 +24,7 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..errors import DataError
+from ..errors import DataError, OptionError
 
 ROLES = ("kw", "kvar", "kva", "pf")
 ROLE_NAMES = {"time": "time", "kw": "kW", "kvar": "kvar", "kva": "kVA", "pf": "PF"}
@@ -130,7 +130,7 @@ def pick_columns(path: str, headers: list[str], mapped: dict[str, str]) -> tuple
     for role, name in mapped.items():
         if name not in headers:
             shown = ", ".join(repr(h) for h in headers[:12])
-            raise DataError(path, f"--{role}-column", f"no column {name!r} in the header (it has {shown})")
+            raise OptionError(path, f"{role}_column", f"no column {name!r} in the header (it has {shown})")
         guess = header_role(name)
         scale = guess[1] if guess and guess[0] == role else 1.0
         found[role] = Column(role=role, header=name, scale=scale)
@@ -142,11 +142,11 @@ def pick_columns(path: str, headers: list[str], mapped: dict[str, str]) -> tuple
         role, scale = guess
         if role in found:
             raise DataError(path, "row 1", f"columns {found[role].header!r} and {header!r} both read as "
-                                           f"{ROLE_NAMES[role]}; name the one to use with --{role}-column")
+                                           f"{ROLE_NAMES[role]}; name the one to use with `{role}_column`")
         found[role] = Column(role=role, header=header, scale=scale)
     if "time" not in found:
         raise DataError(path, "row 1", "no time column (a header naming time, date or timestamp); name it with "
-                                       "--time-column")
+                                       "`time_column`")
     for pair in PAIRS:
         if all(r in found for r in pair):
             return found["time"], (found[pair[0]], found[pair[1]])
@@ -156,7 +156,7 @@ def pick_columns(path: str, headers: list[str], mapped: dict[str, str]) -> tuple
             if energy else "")
     raise DataError(path, "row 1", f"needs two of kW, kvar, kVA and PF named in the header with their unit "
                                    f"(found {', '.join(have) or 'none'}; PF goes with kW or kVA); map columns "
-                                   f"with --kw-column, --kvar-column, --kva-column, --pf-column{hint}")
+                                   f"with `kw_column`, `kvar_column`, `kva_column`, `pf_column`{hint}")
 
 
 def _read_table(path: Path, label: str, usecols: list[str] | None = None):
@@ -264,7 +264,8 @@ def read_meter_data(path: Path | str, columns: dict[str, str] | None = None,
         The CSV or XLSX file.
     columns : dict, optional
         Role -> header for columns the header does not name with a unit: roles ``time``, ``kw``, ``kvar``,
-        ``kva``, ``pf``. A mapped column without a unit in its name is taken in kW, kvar or kVA.
+        ``kva``, ``pf`` (an error names a role as ``kw_column`` …). A mapped column without a unit in its name is
+        taken in kW, kvar or kVA.
     kvar_sign : str
         ``lagging-positive`` (the meter shows inductive kvar as positive) or ``lagging-negative``.
     label : str, optional
@@ -284,7 +285,7 @@ def read_meter_data(path: Path | str, columns: dict[str, str] | None = None,
     path = Path(path)
     label = label or str(path)
     if kvar_sign not in KVAR_SIGNS:
-        raise DataError(label, "--kvar-sign", f"{kvar_sign!r} is not one of {', '.join(KVAR_SIGNS)}")
+        raise OptionError(label, "kvar_sign", f"{kvar_sign!r} is not one of {', '.join(KVAR_SIGNS)}")
     try:
         if not path.is_file():
             raise DataError(label, "", "not found" if not path.exists() else "is not a file")

@@ -151,9 +151,9 @@ def test_simulation_counts_are_consistent(tmp_path):
 
 def test_options_out_of_range(tmp_path):
     times, kw, kvar = _profile(days=2)
-    with pytest.raises(OptionError, match="--pf-target"):
+    with pytest.raises(OptionError, match="pf_target"):
         run(tmp_path, frame(times, kw, kvar), pf_target=1.2)
-    with pytest.raises(OptionError, match="--pattern"):
+    with pytest.raises(OptionError, match="pattern"):
         run(tmp_path, frame(times, kw, kvar), pattern="1:x")
 
 

@@ -6,7 +6,7 @@ import math
 
 import pytest
 
-from bankbuild.errors import DataError
+from bankbuild.errors import DataError, OptionError
 from bankbuild.spec.meter import header_role, read_meter_data
 
 
@@ -183,7 +183,7 @@ def test_xlsx(tmp_path):
     ("time,kW,kvar\n2026-01-01 00:00,100,75\nyesterday,100,75\n", ["row 3", "'time'", "not a time"]),
     ("time,kW\n2026-01-01 00:00,100\n2026-01-01 00:15,100\n", ["row 1", "two of kW, kvar, kVA and PF"]),
     ("kW,kvar\n100,75\n", ["row 1", "no time column"]),
-    ("time,kW,P (kW),kvar\n2026-01-01 00:00,1,1,1\n", ["row 1", "both read as kW", "--kw-column"]),
+    ("time,kW,P (kW),kvar\n2026-01-01 00:00,1,1,1\n", ["row 1", "both read as kW", "kw_column"]),
     ("time,kW,kvar\n", ["no readings"]),
     ("time,kWh,kvarh\n2026-01-01 00:00,1,1\n", ["energy columns"]),
     ("time,kW,kvar\n2026-01-01 00:00,100,75\n", ["fewer than two"]),
@@ -212,7 +212,7 @@ def test_unknown_type_and_missing_file(tmp_path):
 
 
 def test_mapped_column_missing(tmp_path):
-    with pytest.raises(DataError, match="--kw-column: no column 'real'"):
+    with pytest.raises(OptionError, match="kw_column: no column 'real'"):
         read_meter_data(write(tmp_path, "time,kW,kvar\n2026-01-01 00:00,1,1\n"), columns={"kw": "real"})
 
 
