@@ -7,7 +7,6 @@ import hashlib
 
 from bankbuild.reports.pdf_blocks import C, cautions_box, gap, grid, heading, key_values, verdict
 from bankbuild.reports.pdf_common import P, PageFrame, build_pdf, num
-from bankbuild.reports.survey_charts import AFTER, BEFORE, LEVEL, Level, Series, line_chart, paired_bars
 from bankbuild.reports.survey_out import JSON_FILE, PDF_FILE, SPEC_FILE, spec_yaml, survey_json
 from bankbuild.results.survey import SurveyResult
 
@@ -57,15 +56,7 @@ def _story(r: SurveyResult, width: float) -> list:
         ("Light-load kvar", f"{num(r.light_load_kvar, 1, 'kvar')} at {r.light_load_at}: the largest fixed part "
                             "that never makes the PF leading"),
     ], width))
-    levels = [Level(b.fixed_kvar + sum(b.steps[:k]), colour=LEVEL) for k in range(1, len(b.steps))]
-    if b.fixed_kvar:
-        levels.append(Level(b.fixed_kvar, f"fixed {b.fixed_kvar:g}", colour=LEVEL, strong=True))
-    levels.append(Level(b.total_kvar, f"bank {b.total_kvar:g} kvar", strong=True))
-    top = max(n.max, b.total_kvar) * 1.08 or 1.0
-    story += [gap(4), line_chart(
-        width, 200, "kvar duration curve: need at or above, with the bank's total, fixed part and steps",
-        [Series("need per interval", r.charts.need_duration.x, r.charts.need_duration.y, BEFORE)], levels,
-        (0, 100), (0, top), "share of importing intervals [%]", "need [kvar]")]
+    story += [gap(4), _need_chart(r, width)]
 
     story += heading("3. Proposed bank")
     story.append(key_values([
@@ -102,14 +93,7 @@ def _story(r: SurveyResult, width: float) -> list:
         story += [gap(4), grid(rows, [width * f for f in (0.08, 0.1, 0.14, 0.14, 0.3, 0.24)]),
                   P(f"Contactor: {s.contactor_endurance_source}. Capacitor units: {s.capacitor_switchings_source}. "
                     f"Over {s.years:.2f} years of data.", "note")]
-    pf_low = min(min(r.charts.pf_before.y), min(r.charts.pf_after.y), r.pf_target)
-    story += [gap(4), line_chart(
-        width, 190, "Power factor at or above, share of importing intervals",
-        [Series("as metered", r.charts.pf_before.x, r.charts.pf_before.y, BEFORE),
-         Series("with the bank (simulated)", r.charts.pf_after.x, r.charts.pf_after.y, AFTER)],
-        [Level(r.pf_target, f"target {r.pf_target:g}", strong=True)], (0, 100),
-        (max(0.0, round(pf_low - 0.05, 1)), 1.0), "share of importing intervals [%]", "power factor [-]",
-        lambda v: f"{v:.2f}")]
+    story += [gap(4), _pf_chart(r, width)]
 
     story += heading("5. Months: billing power factor and kVA demand")
     rows = [[C(h, "head") for h in ("Month", "kWh", "kvarh before", "kvarh after", "PF before", "PF after",
@@ -119,11 +103,7 @@ def _story(r: SurveyResult, width: float) -> list:
                      C(f"{m.billing_pf_before:.3f}"), C(f"{m.billing_pf_after:.3f}"), C(f"{m.kva_demand_before:,.0f}"),
                      C(f"{m.kva_demand_after:,.0f}"), C(f"{m.coverage:.0%}")])
     story.append(grid(rows, [width * f for f in (0.1, 0.12, 0.12, 0.12, 0.09, 0.09, 0.13, 0.13, 0.1)]))
-    low = min([m.billing_pf_before for m in r.monthly] + [r.pf_target])
-    story += [gap(4), paired_bars(
-        width, 180, "Monthly billing power factor, before and after", [m.month[2:] for m in r.monthly],
-        [m.billing_pf_before for m in r.monthly], [m.billing_pf_after for m in r.monthly], r.pf_target,
-        (max(0.0, round(low - 0.1, 1)), 1.0), "billing PF [-]")]
+    story += [gap(4), _monthly_chart(r, width)]
 
     story += heading("6. Checks")
     rows = [[C("Check", "head"), C("Result", "head"), C("Detail", "head"), C("Rule", "head")]]
@@ -140,3 +120,54 @@ def _story(r: SurveyResult, width: float) -> list:
                              ("Data file SHA-256", d.sha256)]
                             + [("Rating table", t) for t in r.tables], width))
     return story
+
+
+def _need_chart(r: SurveyResult, width: float):
+    """kvar duration curve with the bank's total, fixed part and each cumulative step level."""
+    from bankbuild.reports.chart import Axis, Chart, Mark, Series, chart_drawing
+
+    b, n = r.proposed, r.need_kvar
+    curve = tuple(zip(r.charts.need_duration.x, r.charts.need_duration.y, strict=True))
+    marks = [Mark("hline", y=b.fixed_kvar + sum(b.steps[:k]), style="dotted") for k in range(1, len(b.steps))]
+    if b.fixed_kvar:
+        marks.append(Mark("hline", y=b.fixed_kvar, label=f"fixed part {b.fixed_kvar:g} kvar", style="dashdot"))
+    marks.append(Mark("hline", y=b.total_kvar, label=f"bank {b.total_kvar:g} kvar", style="dashed"))
+    marks.append(Mark("point", x=n.share * 100, y=n.at_share, label=f"{n.share:.0%}: {n.at_share:,.1f} kvar"))
+    top = max(n.max, b.total_kvar) * 1.08 or 1.0
+    return chart_drawing(Chart(
+        "kvar duration curve: need at or above, with the bank's total, fixed part and steps (dotted)",
+        Axis("share of importing intervals", "%", 0, 100), Axis("need", "kvar", 0, top),
+        (Series("need per interval", curve),), tuple(marks), width=width, height=210))
+
+
+def _pf_chart(r: SurveyResult, width: float):
+    """Power factor at or above, before and after."""
+    from bankbuild.reports.chart import Axis, Chart, Mark, Series, chart_drawing
+
+    before = tuple(zip(r.charts.pf_before.x, r.charts.pf_before.y, strict=True))
+    after = tuple(zip(r.charts.pf_after.x, r.charts.pf_after.y, strict=True))
+    low = min(min(r.charts.pf_before.y), min(r.charts.pf_after.y), r.pf_target)
+    return chart_drawing(Chart(
+        "Power factor at or above, share of importing intervals",
+        Axis("share of importing intervals", "%", 0, 100), Axis("power factor", "", max(0.0, round(low - 0.05, 1)),
+                                                                 1.0),
+        (Series("as metered", before), Series("with the bank (simulated)", after, style="dashed", weight=1.6)),
+        (Mark("hline", y=r.pf_target, label=f"target {r.pf_target:g}", style="dotted"),), width=width, height=200))
+
+
+def _monthly_chart(r: SurveyResult, width: float):
+    """Monthly billing PF, before and after, as paired bars."""
+    from bankbuild.reports.chart import Axis, Chart, Mark, Series, chart_drawing
+
+    months = r.monthly
+    xs = tuple(float(i + 1) for i in range(len(months)))
+    low = min([m.billing_pf_before for m in months] + [r.pf_target])
+    return chart_drawing(Chart(
+        "Monthly billing power factor, before and after",
+        Axis("month", "", ticks=xs, labels=tuple(m.month[2:] for m in months)),
+        Axis("billing power factor", "", max(0.0, round(low - 0.1, 1)), 1.0),
+        (Series("before (metered)", tuple(zip(xs, [m.billing_pf_before for m in months], strict=True)),
+                draw="bars"),
+         Series("after (simulated)", tuple(zip(xs, [m.billing_pf_after for m in months], strict=True)),
+                draw="bars")),
+        (Mark("hline", y=r.pf_target, label=f"target {r.pf_target:g}", style="dotted"),), width=width, height=190))
