@@ -11,8 +11,14 @@ $(STAMP): pyproject.toml
 	$(BIN)/pip install -q -e '.[test]'
 	touch $(STAMP)
 
+SURVEY := bankbuild-out/survey
+
 demo: $(STAMP)
 	$(BIN)/bankbuild demo --out bankbuild-out
+	$(BIN)/python -m bankbuild.spec.demo_meter $(SURVEY)/packaging-line-15min.csv
+	$(BIN)/bankbuild survey $(SURVEY)/packaging-line-15min.csv --voltage-v 480 --pf-target 0.95 \
+		--name "Packaging line automatic bank" --out $(SURVEY)
+	$(BIN)/bankbuild size $(SURVEY)/spec.yaml --out $(SURVEY)/bank
 
 test: $(STAMP)
 	$(BIN)/ruff check bankbuild tests benchmarks

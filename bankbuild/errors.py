@@ -62,3 +62,7 @@ class OptionError(BankbuildError):
     """
 
     field_is_parameter = True
+
+
+class DataError(BankbuildError):
+    """A file of metered readings that cannot be read: a missing column, a cell that is not a number or a time."""

@@ -3,9 +3,11 @@
 1. start-up: ``bankbuild --help`` against a bare ``python -c "import typer"`` (goal: at most 1.5 times);
 2. the demo with all its documents against importing the libraries it uses (goal: at most 1.5 times);
 3. selecting a 5,000 kvar bank of 25 steps (goal: under 100 ms);
-4. an invented plant of 500 banks: ``size --json`` (goal: a few seconds) and ``size`` with every document
+4. a survey of one year of one-minute readings (525,600 rows): read, analysed and simulated (goal: a few
+   seconds; peak memory bounded, under 500 MB), beside a plain ``pandas.read_csv`` of the same file;
+5. an invented plant of 500 banks: ``size --json`` (goal: a few seconds) and ``size`` with every document
    (goal: well under a minute), and how the cost grows from 125 to 250 to 500 banks (goal: linear);
-5. the harmonic study of a 12-step bank, every distinct step combination, plain (with the search for a tuning
+6. the harmonic study of a 12-step bank, every distinct step combination, plain (with the search for a tuning
    that passes) and detuned (three tolerance corners): CPU time of the study alone (goal: under 200 ms).
 
 The commands under test and their references run in alternation (A, B, A, B, ...), so that a machine that
@@ -260,6 +262,41 @@ def _growth(specs: dict[int, Path], runs: int) -> dict[int, float]:
     return {n: by_path[str(specs[n])] for n in sizes}
 
 
+def bench_survey(runs: int, work: Path) -> list[Row]:
+    """A year of one-minute readings through the survey in a child process (its own peak memory)."""
+    import json
+
+    sys.path.insert(0, str(ROOT))
+    from bankbuild.spec.demo_meter import write_demo_csv
+
+    data = work / "meter-1min.csv"
+    rows = write_demo_csv(data, minutes=1)
+    script = [PYTHON, str(HERE / "survey_bench.py"), str(data)]
+
+    def child(extra: list[str]) -> dict:
+        done = subprocess.run(script + extra, capture_output=True, text=True, check=False)
+        if done.returncode != 0:
+            raise SystemExit(f"survey benchmark failed: {done.stderr}")
+        return json.loads(done.stdout)
+
+    child([])  # warm the file cache
+    measured, reference = [], []
+    for _ in range(runs):
+        measured.append(child([]))
+        reference.append(child(["--reference"]))
+    read = statistics.median(m["read_s"] for m in measured)
+    work_s = statistics.median(m["survey_s"] for m in measured)
+    peak = max(m["peak_mb"] for m in measured)
+    plain = statistics.median(r["read_s"] for r in reference)
+    total = read + work_s
+    return [Row(f"survey: {rows:,} one-minute readings, read + analysed + simulated", f"{total:.2f} s",
+                f"`pandas.read_csv` alone {plain:.2f} s", f"read {read:.2f} s + survey {work_s:.2f} s",
+                "a few seconds (≤ 5 s)", total <= 5.0),
+            Row("survey: peak memory of that process", f"{peak:,.0f} MB",
+                f"`pandas.read_csv` alone {max(r['peak_mb'] for r in reference):,.0f} MB", "",
+                "bounded (≤ 500 MB)", peak <= 500.0)]
+
+
 def markdown(rows: list[Row], where: str) -> str:
     lines = ["| what | measured | beside it | result | goal | met |", "|---|---|---|---|---|---|"]
     for r in rows:
@@ -281,6 +318,7 @@ def main(argv: list[str] | None = None) -> int:
         work = Path(tmp)
         steps = [("start-up", lambda: [bench_startup(runs)]), ("demo", lambda: [bench_demo(runs, work)]),
                  ("selection", bench_selection), ("harmonic study", lambda: bench_harmonics(runs)),
+                 ("survey", lambda: bench_survey(min(runs, 3), work)),
                  ("plant", lambda: bench_plant(runs, work, with_documents=not args.quick))]
         for label, step in steps:
             print(f"… {label}", file=sys.stderr, flush=True)

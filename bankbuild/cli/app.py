@@ -233,6 +233,52 @@ def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing b
     _strict_exit(result.banks, strict)
 
 
+@app.command()
+def survey(
+    data: Annotated[Path, typer.Argument(help="Metered readings (CSV or XLSX): a time column and two of kW, kvar, "
+                                              "kVA, PF named in the header with their unit.")],
+    voltage_v: Annotated[float, typer.Option("--voltage-v", help="Supply line-to-line voltage [V].")],
+    pf_target: Annotated[float, typer.Option("--pf-target", help="Target power factor (lagging).")],
+    out: Annotated[Path | None, typer.Option(
+        "--out", help="Folder for spec.yaml, survey.json and survey-report.pdf (created if missing).")] = None,
+    json: JsonOpt = False,
+    frequency_hz: Annotated[float, typer.Option("--frequency-hz", help="Supply frequency [Hz].")] = 60.0,
+    share: Annotated[float, typer.Option("--share", help="Share of intervals the bank must meet the target in; "
+                                                         "it sizes the total.")] = 0.95,
+    pf_lead_limit: Annotated[float, typer.Option("--pf-lead-limit", help="Leading PF the controller must not "
+                                                                         "pass (1 = never lead).")] = 0.98,
+    steps: Annotated[int | None, typer.Option("--steps", help="Switched steps; default 6, fewer for a small "
+                                                              "bank.")] = None,
+    pattern: Annotated[str, typer.Option("--pattern", help="Step weights: 'equal' or like 1:2:2.")] = "1:2:2",
+    switch_in_share: Annotated[float, typer.Option(
+        "--switch-in-share", help="Missing kvar that switches a step in, as a share of the smallest step.")] = 0.0,
+    demand_interval_min: Annotated[float, typer.Option(
+        "--demand-interval-min", help="Tariff demand interval for the kVA demand [min].")] = 15.0,
+    rules: Annotated[str, typer.Option("--rules", help="Rule basis written into the spec: nec or iec.")] = "nec",
+    name: Annotated[str, typer.Option("--name", help="The bank's name in the spec.")] = "Surveyed bank",
+    kvar_sign: Annotated[str, typer.Option("--kvar-sign", help="lagging-positive or lagging-negative (how the "
+                                                               "meter signs inductive kvar).")] = "lagging-positive",
+    time_column: Annotated[str | None, typer.Option("--time-column", help="Header of the time column.")] = None,
+    kw_column: Annotated[str | None, typer.Option("--kw-column", help="Header of the kW column.")] = None,
+    kvar_column: Annotated[str | None, typer.Option("--kvar-column", help="Header of the kvar column.")] = None,
+    kva_column: Annotated[str | None, typer.Option("--kva-column", help="Header of the kVA column.")] = None,
+    pf_column: Annotated[str | None, typer.Option("--pf-column", help="Header of the PF column.")] = None,
+    catalogs: CatOpt = None,
+) -> None:
+    """Size a bank from metered readings: need per interval, a proposed bank and spec, and that bank proven on the
+    data by a simulated step controller (PF, leading intervals, switching duty, monthly billing PF and kVA demand).
+
+    Example: bankbuild survey meter.csv --voltage-v 480 --pf-target 0.95 --out survey
+    """
+    from bankbuild.cli.survey import run_survey
+
+    columns = {"time": time_column, "kw": kw_column, "kvar": kvar_column, "kva": kva_column, "pf": pf_column}
+    typer.echo(run_survey(data, out, json, catalogs, columns, kvar_sign, voltage_v=voltage_v, pf_target=pf_target,
+                          frequency_hz=frequency_hz, share=share, pf_lead_limit=pf_lead_limit, steps=steps,
+                          pattern=pattern, switch_in_share=switch_in_share,
+                          demand_interval_min=demand_interval_min, rules=rules, name=name))
+
+
 @catalog_app.command("check")
 def catalog_check(folder: Annotated[Path | None, typer.Argument(help="Folder of tables (default: built-in).")]
                   = None) -> None:
