@@ -46,62 +46,143 @@ def verdict(ok: bool, passed: str = "pass", failed: str = "FLAG") -> CellText:
     return C(passed, "cell", PASS_GREEN) if ok else C(failed, "cell_bold", FLAG_RED)
 
 
-def _cell(cell, row: int, col: int, width: float, cmds: list):
-    """A CellText as a string (with its style commands) when it fits on one line, else as a Paragraph."""
-    from reportlab.lib.colors import Color
+def wrap_lines(text: str, font: str, size: float, width: float) -> list[str] | None:
+    """``text`` broken into lines of at most ``width`` points, as a reportlab Paragraph breaks plain text; None
+    where a Paragraph would draw a line differently from a plain string: a word wider than a line (it splits
+    the word) or a line that fits only with its spaces narrowed.
+
+    The same greedy rule as reportlab's: words split on white space, a word goes on the line while the line
+    stays within the width plus 5 % of a space per word already on it (its ``spaceShrinkage``); a line over the
+    width is then drawn with narrower spaces.
+
+    >>> wrap_lines("one two three", "Helvetica", 10, 40)
+    ['one two', 'three']
+    >>> wrap_lines("unbreakable", "Helvetica", 10, 20) is None
+    True
+    """
+    from reportlab import rl_config
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
+    space = stringWidth(" ", font, size)
+    shrink = rl_config.spaceShrinkage * space
+    lines: list[str] = []
+    line: list[str] = []
+    used = -space
+    for word in text.split():
+        word_w = stringWidth(word, font, size)
+        new_w = used + space + word_w
+        if new_w > width + shrink * len(line):
+            if word_w > width:
+                return None
+            if line:
+                lines.append(" ".join(line))
+                line, used = [word], word_w
+                continue
+        elif new_w > width:
+            return None
+        line.append(word)
+        used = new_w
+    if line:
+        lines.append(" ".join(line))
+    return lines
+
+
+class _GridStyle:
+    """The table-wide text defaults of :func:`grid` (the ``cell`` style) and the commands for cells that differ."""
+
+    def __init__(self):
+        from reportlab.lib.colors import Color, black
+
+        base = styles()["cell"]
+        self.base = base
+        self.ink = Color(*INK)
+        self.black = black
+        self.colours: dict = {}
+        self.defaults = [("FONTNAME", (0, 0), (-1, -1), base.fontName), ("FONTSIZE", (0, 0), (-1, -1), base.fontSize),
+                         ("LEADING", (0, 0), (-1, -1), base.leading), ("TEXTCOLOR", (0, 0), (-1, -1), self.ink)]
+
+    def colour(self, rgb):
+        from reportlab.lib.colors import Color
+
+        if rgb not in self.colours:
+            self.colours[rgb] = Color(*rgb)
+        return self.colours[rgb]
+
+
+def _cell(cell, row: int, col: int, width: float, cmds: list, look: _GridStyle):
+    """A cell as the table draws it: CellText as a plain string (its lines broken here, which is much faster
+    than a Paragraph per cell), with commands only where its style differs from the table's defaults."""
+    at = (col, row), (col, row)
+    if isinstance(cell, str):  # a bare string keeps reportlab's own cell defaults (an empty cell is 12 pt high)
+        cmds += [("LEADING", *at, 12), ("TEXTCOLOR", *at, look.black)]
+        return cell
     if not isinstance(cell, CellText):
         return cell
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
     style = styles()[cell.style]
-    one_line = stringWidth(cell.text, style.fontName, style.fontSize) <= width - 6.5
-    if not one_line:
+    if stringWidth(cell.text, style.fontName, style.fontSize) <= width - 6.5:
+        lines = [cell.text]  # fits as it is
+    else:
+        lines = wrap_lines(cell.text, style.fontName, style.fontSize, width - 6)
+    if lines is None:  # a word wider than the column: the Paragraph splits it
         if cell.colour is not None:
-            style = style.clone(f"{style.name}-c", textColor=Color(*cell.colour))
+            style = style.clone(f"{style.name}-c", textColor=look.colour(cell.colour))
         return paragraph_class()(para_text(cell.text), style)
-    at = (col, row), (col, row)
-    cmds += [("FONTNAME", *at, style.fontName), ("FONTSIZE", *at, style.fontSize),
-             ("LEADING", *at, style.leading), ("TEXTCOLOR", *at, Color(*(cell.colour or INK)))]
+    base = look.base
+    if style.fontName != base.fontName:
+        cmds.append(("FONTNAME", *at, style.fontName))
+    if style.fontSize != base.fontSize:
+        cmds.append(("FONTSIZE", *at, style.fontSize))
+    if style.leading != base.leading:
+        cmds.append(("LEADING", *at, style.leading))
+    if cell.colour is not None:
+        cmds.append(("TEXTCOLOR", *at, look.colour(cell.colour)))
     if style.alignment == 2:
         cmds.append(("ALIGN", *at, "RIGHT"))
-    return cell.text
+    return "\n".join(lines)
 
 
 def grid(rows: Sequence[Sequence], widths: Sequence[float], header_rows: int = 1, zebra: bool = True,
-         spans: Sequence[int] = (), row_heights: Sequence[float | None] | None = None):
-    """A ruled table whose header rows repeat on every page; ``spans`` are rows drawn as full-width bands.
+         spans: Sequence[int] = (), row_heights: Sequence[float | None] | None = None,
+         joined: Sequence[tuple[int, int, int]] = ()):
+    """A ruled table whose header rows repeat on every page; ``spans`` are rows drawn as full-width bands;
+    ``joined`` are cells spanning columns, each ``(row, first column, last column)``.
 
-    Cells are flowables, or :class:`CellText` (drawn as plain strings where they fit: much faster than a
-    Paragraph per cell).
+    Cells are flowables, or :class:`CellText` (drawn as plain strings, broken into lines here: much faster than
+    a Paragraph per cell, and laid out the same).
     """
     from reportlab.lib.colors import Color
     from reportlab.platypus import Table, TableStyle
 
+    look = _GridStyle()
     cmds = [
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("FONTNAME", (0, 0), (-1, -1), FONT),
-        ("FONTSIZE", (0, 0), (-1, -1), 7.4),
+        *look.defaults,
         ("LEFTPADDING", (0, 0), (-1, -1), 3),
         ("RIGHTPADDING", (0, 0), (-1, -1), 3),
         ("TOPPADDING", (0, 0), (-1, -1), 2),
         ("BOTTOMPADDING", (0, 0), (-1, -1), 2.5),
         ("LINEBELOW", (0, 0), (-1, -1), 0.25, Color(*RULE_GREY)),
-        ("BOX", (0, 0), (-1, -1), 0.6, Color(*INK)),
+        ("BOX", (0, 0), (-1, -1), 0.6, look.ink),
     ]
     if header_rows:
         cmds += [("BACKGROUND", (0, 0), (-1, header_rows - 1), Color(*SHADE)),
-                 ("LINEBELOW", (0, header_rows - 1), (-1, header_rows - 1), 0.8, Color(*INK))]
+                 ("LINEBELOW", (0, header_rows - 1), (-1, header_rows - 1), 0.8, look.ink)]
     if zebra:
         for r in range(header_rows + 1, len(rows), 2):
             if r not in spans:
                 cmds.append(("BACKGROUND", (0, r), (-1, r), Color(0.975, 0.98, 0.985)))
     for r in spans:
         cmds += [("SPAN", (0, r), (-1, r)), ("BACKGROUND", (0, r), (-1, r), Color(0.84, 0.88, 0.92)),
-                 ("LINEABOVE", (0, r), (-1, r), 0.8, Color(*INK))]
+                 ("LINEABOVE", (0, r), (-1, r), 0.8, look.ink)]
+    cell_widths = {(r, 0): sum(widths) for r in spans}
+    for r, first, last in joined:
+        cmds.append(("SPAN", (first, r), (last, r)))
+        cell_widths[r, first] = sum(widths[first:last + 1])
     data = []
     for r, row in enumerate(rows):
-        span = r in spans
-        data.append([_cell(cell, r, c, sum(widths) if span else widths[c], cmds) for c, cell in enumerate(row)])
+        data.append([_cell(cell, r, c, cell_widths.get((r, c), widths[c]), cmds, look) for c, cell in enumerate(row)])
     table = Table(data, colWidths=list(widths), repeatRows=header_rows, hAlign="LEFT",
                   rowHeights=list(row_heights) if row_heights else None)
     table.setStyle(TableStyle(cmds))
@@ -141,10 +222,8 @@ def title_block(result: ProjectResult, doc_title: str, purpose: str, width: floa
          C(f"bankbuild {result.provenance.version}")],
     ]
     key_w = width * 0.14
-    table = grid(rows, [key_w, half - key_w, key_w, half - key_w], header_rows=0, zebra=False)
-    from reportlab.platypus import TableStyle
-
-    table.setStyle(TableStyle([("SPAN", (1, 0), (3, 0)), ("SPAN", (1, 1), (3, 1)), ("SPAN", (1, 2), (3, 2))]))
+    table = grid(rows, [key_w, half - key_w, key_w, half - key_w], header_rows=0, zebra=False,
+                 joined=[(0, 1, 3), (1, 1, 3), (2, 1, 3)])
     return [P(doc_title, "title"), P(purpose, "subtitle"), table, Spacer(1, 8)]
 
 

@@ -107,6 +107,27 @@ def _cache_widths(font) -> None:
 
     font.stringWidth = lambda text, size, encoding="utf8": per_point(text, encoding) * size
 
+    # Drawing maps each character to its code in the document's font subsets, again in pure Python for every
+    # string drawn. A character keeps its code once given, so the codes of a whole string are remembered, per
+    # document (each has its own subsets).
+    split = font.splitString
+
+    def split_cached(text, doc, encoding="utf-8"):
+        state = font.state.get(doc)
+        known = getattr(state, "bankbuild_split", None)
+        if known is None:
+            parts = split(text, doc, encoding)
+            font.state[doc].bankbuild_split = {text: parts}
+            return parts
+        parts = known.get(text)
+        if parts is None:
+            if len(known) >= 1 << 14:  # bounded memory: start again
+                known.clear()
+            parts = known[text] = split(text, doc, encoding)
+        return parts
+
+    font.splitString = split_cached
+
 
 @lru_cache(maxsize=1)
 def paragraph_class():
@@ -143,6 +164,8 @@ def plain_text(text: object) -> str:
     text = str(text)
     if text.isascii() and text.isprintable():  # the common case: nothing to replace
         return text
+    if _drawn_as_is().issuperset(text):  # every character drawn as it is (a set test, not a loop in Python)
+        return text
     covered = register_fonts()
     out = []
     for ch in text:
@@ -158,6 +181,12 @@ def plain_text(text: object) -> str:
         else:
             out.append(f"[U+{ord(ch):04X}]")
     return "".join(out)
+
+
+@lru_cache(maxsize=1)
+def _drawn_as_is() -> frozenset[str]:
+    """The characters :func:`plain_text` keeps unchanged: drawn by every face, and no look-alike replaces them."""
+    return frozenset(chr(code) for code in register_fonts()) - set(_LOOK_ALIKE)
 
 
 def para_text(text: object) -> str:

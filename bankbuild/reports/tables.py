@@ -122,20 +122,29 @@ def _put(ws, row: int, col: int, value):
     return cell
 
 
+HEAD_STYLE = "bankbuild header"
+TEXT_STYLE = "bankbuild wrapped"
+
+
+def _add_styles(wb) -> None:
+    """The workbook's two named styles, each defined once: a bold shaded header, and wrapped text set at the
+    top (assigning a named style is one lookup, where a font or alignment per cell is hashed and compared)."""
+    from openpyxl.styles import Alignment, Font, NamedStyle, PatternFill
+
+    wb.add_named_style(NamedStyle(HEAD_STYLE, font=Font(bold=True), fill=PatternFill("solid", fgColor="DDDDDD")))
+    wb.add_named_style(NamedStyle(TEXT_STYLE, alignment=Alignment(wrap_text=True, vertical="top")))
+
+
 def _bom_sheet(ws, lines: list[BomLine], scope: str) -> None:
-    from openpyxl.styles import Alignment, Font, PatternFill
     from openpyxl.utils import get_column_letter
 
     columns = COLUMNS[1:]
     for col, name in enumerate(columns, start=1):
-        cell = _put(ws, 1, col, name)
-        cell.font = Font(bold=True)
-        cell.fill = PatternFill("solid", fgColor="DDDDDD")
+        _put(ws, 1, col, name).style = HEAD_STYLE
         ws.column_dimensions[get_column_letter(col)].width = WIDTHS[name]
-    wrap = Alignment(wrap_text=True, vertical="top")
     for r, line in enumerate(lines, start=2):
         for col, value in enumerate(_cells(scope, line)[1:], start=1):
-            _put(ws, r, col, value).alignment = wrap
+            _put(ws, r, col, value).style = TEXT_STYLE
     ws.freeze_panes = "A2"
     ws.auto_filter.ref = f"A1:{get_column_letter(len(columns))}{max(1, len(lines) + 1)}"
 
@@ -150,6 +159,7 @@ def bom_xlsx(result: ProjectResult) -> bytes:
     from openpyxl.styles import Alignment, Font
 
     wb = Workbook()
+    _add_styles(wb)
     ws = wb.active
     taken = {"about"}
     ws.title = sheet_title("Project", taken)

@@ -167,18 +167,19 @@ def parse_yaml(raw: bytes, where: str) -> Any:
     return data
 
 
-# Bidirectional overrides and isolates can make text on a document read differently from what it holds.
-_BIDI = frozenset("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
+# Bidirectional overrides and isolates can make text on a document read differently from what it holds; the
+# control characters (Unicode category Cc) are exactly U+0000-U+001F and U+007F-U+009F.
+_BAD_CHAR = re.compile("[\x00-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
 
 
 def _bad_char(text: str) -> str | None:
-    """The first control or direction-override character in ``text`` (as ``U+001B``), or None."""
-    import unicodedata
+    """The first control or direction-override character in ``text`` (as ``U+001B``), or None.
 
-    for char in text:
-        if char in _BIDI or unicodedata.category(char) == "Cc":
-            return f"U+{ord(char):04X}"
-    return None
+    >>> _bad_char("Line 3"), _bad_char("a\x1b[31m"), _bad_char("\u202eevil")
+    (None, 'U+001B', 'U+202E')
+    """
+    found = _BAD_CHAR.search(text)
+    return f"U+{ord(found.group()):04X}" if found else None
 
 
 def _check_text(data: Any, where: str) -> None:
