@@ -427,3 +427,37 @@ def detuned_resonance_order(short_circuit_mva: float, capacitor_kvar: float, p: 
     .. [1] IEEE Std 1531-2020, guide for harmonic filter components (series-tuned branch; from memory).
     """
     return 1.0 / math.sqrt(capacitor_kvar / (1000.0 * short_circuit_mva) + p)
+
+
+def harmonic_position(
+    order: float, harmonics: tuple[int, ...] = CHARACTERISTIC_HARMONICS, band: float = 0.1
+) -> str:
+    """Where a resonance order lies against the characteristic harmonics, as short text.
+
+    Parameters
+    ----------
+    order : float
+        Resonance order [-]
+    harmonics : tuple of int, optional
+        Harmonic orders, rising [-]
+    band : float, optional
+        Half-width of the band around each harmonic as a fraction of that harmonic [-]
+
+    Returns
+    -------
+    str
+        "above the 13th" or "below the 5th" outside the bands at either end, else the relatively nearest
+        harmonic with the order's deviation from it in percent.
+
+    Examples
+    --------
+    >>> harmonic_position(11.68), harmonic_position(26.87), harmonic_position(3.2)
+    ('11th (+6%)', 'above the 13th', 'below the 5th')
+    """
+    if order > harmonics[-1] * (1 + band):
+        return f"above the {harmonics[-1]}th"
+    if order < harmonics[0] * (1 - band):
+        return f"below the {harmonics[0]}th"
+    nearest = min(harmonics, key=lambda h: abs(order - h) / h)
+    return f"{nearest}th ({(order - nearest) / nearest * 100:+.0f}%)"
+

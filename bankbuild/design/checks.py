@@ -212,8 +212,9 @@ def resonance(bank, steps, p: float, available_v: list[float]):
     for q_c, members in combos:
         h = detuned_resonance_order(s_sc, q_c, p)
         points.append(ResonancePoint(steps=[steps[i - 1].index for i in members],
-                                     kvar=sum(by_step[steps[i - 1].index] for i in members), harmonic_order=h,
-                                     near_harmonic=sysc.near_harmonic(h)))
+                                     kvar=sum(by_step[steps[i - 1].index] for i in members), capacitor_kvar=q_c,
+                                     harmonic_order=h, near_harmonic=sysc.near_harmonic(h),
+                                     position=sysc.harmonic_position(h)))
     advice = None
     flagged = [pt for pt in points if pt.near_harmonic]
     shown = "" if complete else f" (first {MAX_COMBINATIONS} distinct totals and the cumulative ones)"
@@ -306,6 +307,9 @@ def system_figures(bank, steps, *, rules: str, basis=None, v_r: float, f_r: floa
     motor, motor_checks = motor_figures(bank, delivered, rated_current_a, main_conductor_ampacity_a,
                                         main_conductor, ctx, unit_rows, factor)
     checks += motor_checks
-    return SystemResult(voltage=stress, short_circuit_mva=s_sc, resonance_combinations=points,
+    s_tx = (sysc.short_circuit_mva(supply.transformer_kva, supply.transformer_z_pct)
+            if supply.has_transformer else None)
+    return SystemResult(voltage=stress, short_circuit_mva=s_sc, transformer_short_circuit_mva=s_tx,
+                        resonance_combinations=points,
                         combinations_complete=complete, tuning=tuning, detuning_advice=advice, light_load=light,
                         motor=motor), checks

@@ -56,7 +56,8 @@ def discharge_for(basis, bank, step, units, rated_voltage_v: float, connection: 
                   default=float("inf"))
     builtin_ok = builtin <= time_s + 1e-9
     return Discharge(
-        step_index=step.index, capacitance_uf_per_leg=step.capacitance_uf_per_leg, start_voltage_v=v0,
+        step_index=step.index, capacitance_uf_per_leg=step.capacitance_uf_per_leg, leg_voltage_v=leg_v,
+        start_voltage_v=v0,
         limit_v=limit, time_s=time_s, rule=rule, max_resistance_ohm=r_max,
         resistor_power_w=dis.resistor_power_w(leg_v, r_max), builtin_time_s=builtin, builtin_ok=builtin_ok,
         ok=builtin_ok)

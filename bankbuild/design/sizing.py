@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 from bankbuild.calc import capacitor as cap
 from bankbuild.calc import detuning as det
 from bankbuild.calc import power as pw
@@ -92,22 +94,66 @@ def step_targets(bank: Bank, required_kvar: float, units=(), factor: float = 1.0
     return planned_targets(bank, required_kvar, units, factor)
 
 
+@dataclass(frozen=True)
+class UnitRating:
+    """The units a bank is built of: their rating, the table rows of that rating, and what each gives.
+
+    ``factor`` is the kvar one nameplate kvar delivers at the supply (re-rated for voltage and frequency, and
+    raised by 1/(1 − p) behind detuning reactors); ``connection`` is how the units are connected inside.
+    """
+
+    voltage_v: float
+    frequency_hz: float
+    units: tuple
+    connection: str
+    factor: float
+    available_v: tuple[float, ...]
+    given: object = None  # the spec's own units per step (an existing bank), when it names them
+
+
 def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", basis=None) -> BankResult:
-    """Size one bank: units per step, protection per step and main, discharge and system checks."""
+    """Size one bank, in the order of the job: need, units, steps, protection, discharge, system, assembly."""
     basis = rule_basis_for(spec, basis)
     rules = basis.rules
     field = f"banks[{index}] ({bank.name})"
-    supply = bank.supply
-    v_s, f_s = supply.voltage_v, supply.frequency_hz
-    p = bank.tuning_factor
     checks: list[Check] = []
-    need = need_summary(bank.need, v_s)
-    required = need.required_kvar
-    if required <= 1e-9 and not isinstance(bank.steps, list) and bank.units is None:
+    need = _need(bank, where, field)
+    rating = _unit_rating(bank, catalogs, where, field, checks)
+    steps = _steps(bank, need.required_kvar, rating)
+    need = _delivery(bank, need, steps, checks)
+    ctx = circuit_context(spec, bank, catalogs, where, field, rules)
+    sized, main = _protect(bank, steps, rating, ctx, checks)
+    discharge = _discharge(rules, bank, sized, rating, checks)
+    resonance, rise = _system(bank, sized, checks, bank.tuning_factor)
+    system, system_checks = system_figures(
+        bank, sized, rules=rules.family, basis=rules, v_r=rating.voltage_v, f_r=rating.frequency_hz, rise_pct=rise,
+        unit_rows=rating.units, factor=rating.factor, available_v=list(rating.available_v),
+        rated_current_a=main.rated_current_a, main_conductor_ampacity_a=main.conductor_ampacity_a,
+        main_conductor=main.conductor, ctx=ctx)
+    checks.extend(system_checks)
+    result = _bank_result(bank, rules, rating, need, sized, main, discharge, resonance, rise, checks, system,
+                          assumptions(bank, ctx, basis))
+    assembled = assemble_bank(result, bank, catalogs, ctx, list(rating.units))
+    if bank.harmonics is None:
+        return assembled
+    harmonics, harmonic_checks = harmonic_study(bank, assembled, rules.family, list(rating.available_v))
+    return assembled.model_copy(update={"harmonics": harmonics, "checks": [*assembled.checks, *harmonic_checks]})
+
+
+def _need(bank: Bank, where: str, field: str) -> NeedSummary:
+    """The need at the supply; a bank with nothing to correct and no steps of its own is refused."""
+    need = need_summary(bank.need, bank.supply.voltage_v)
+    if need.required_kvar <= 1e-9 and not isinstance(bank.steps, list) and bank.units is None:
         raise SpecError(where, f"{field}.need",
                         f"the present power factor ({need.pf_present:.3f}) already meets the target "
                         f"({need.pf_target}): nothing to correct; give explicit steps to size a bank anyway")
+    return need
 
+
+def _unit_rating(bank: Bank, catalogs, where: str, field: str, checks: list[Check]) -> UnitRating:
+    """The unit rating: the frequency nearest the supply's, the voltage the capacitor sees (with the detuning
+    rise and the margin asked for), or the spec's own; with the checks of that choice."""
+    v_s, f_s, p = bank.supply.voltage_v, bank.supply.frequency_hz, bank.tuning_factor
     units_all = _units_of_connection(catalogs.capacitor_units, bank)
     given = resolve_units(bank, units_all, where, field) if bank.units is not None else None
     freqs = sorted({u.rated_frequency_hz for u in units_all}, key=lambda f: (abs(f - f_s), f))
@@ -141,31 +187,33 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
             name="Unit voltage margin", ok=False, rule="spec: voltage_margin_pct",
             detail=f"wanted units rated ≥ {v_wanted:.0f} V ({v_cap_needed:.0f} V + {bank.voltage_margin_pct:g}%); "
                    f"units rated {v_r:g} V" + ("" if v_r < max(available) else ", the highest in the unit table")))
-
-    units = [u for u in units_all if u.rated_voltage_v == v_r and u.rated_frequency_hz == f_r]
-    unit_connection = units[0].connection if units else bank.connection
-    if unit_connection != bank.connection:
+    units = tuple(u for u in units_all if u.rated_voltage_v == v_r and u.rated_frequency_hz == f_r)
+    connection = units[0].connection if units else bank.connection
+    if connection != bank.connection:
         checks.append(Check(
             name="Unit connection", ok=True, level="info", rule="three-phase units: connected inside the unit",
-            detail=f"connection: {bank.connection}, but the units are three-phase units connected {unit_connection} "
-                   f"inside; the bank is built of their {unit_connection} elements: capacitance per leg, leg voltage "
-                   f"and discharge resistors are the parts' ({unit_connection}); capacitance per phase is given as the "
+            detail=f"connection: {bank.connection}, but the units are three-phase units connected {connection} "
+                   f"inside; the bank is built of their {connection} elements: capacitance per leg, leg voltage "
+                   f"and discharge resistors are the parts' ({connection}); capacitance per phase is given as the "
                    f"{bank.connection} equivalent"))
     at_supply = cap.rerate_kvar(1.0, v_r, f_r, v_s, f_s)
     factor = det.detuned_kvar(at_supply, p) if p else at_supply
+    return UnitRating(voltage_v=v_r, frequency_hz=f_r, units=units, connection=connection, factor=factor,
+                      available_v=tuple(available), given=given)
 
-    steps = []
-    if given is not None:
-        for k in range(len(given.steps)):
-            choice = given.choice(k, factor)
-            steps.append(_size_step(k + 1, choice.delivered_kvar, units, factor, bank, v_s, f_s, v_r, f_r, p,
-                                    choice, unit_connection))
-    else:
-        for k, target in enumerate(step_targets(bank, required, units, factor), start=1):
-            steps.append(_size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p,
-                                    connection=unit_connection))
+
+def _steps(bank: Bank, required_kvar: float, rating: UnitRating) -> list[Step]:
+    """The steps built of units: the spec's own units per step, or the step plan's targets."""
+    if rating.given is not None:
+        choices = [rating.given.choice(k, rating.factor) for k in range(len(rating.given.steps))]
+        return [_size_step(k, choice.delivered_kvar, bank, rating, choice) for k, choice in enumerate(choices, 1)]
+    targets = step_targets(bank, required_kvar, rating.units, rating.factor)
+    return [_size_step(k, target, bank, rating) for k, target in enumerate(targets, start=1)]
+
+
+def _delivery(bank: Bank, need: NeedSummary, steps: list[Step], checks: list[Check]) -> NeedSummary:
+    """What the steps deliver against the need: the corrected power factor, over-correction, the need met."""
     delivered = sum(s.kvar for s in steps)
-    rated_kvar = sum(s.rated_kvar for s in steps)
     if need.active_kw is not None:
         q_after = need.reactive_kvar
         need = need.model_copy(update={"pf_corrected": pw.corrected_power_factor(need.active_kw, q_after,
@@ -173,10 +221,17 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
         if pw.is_leading(q_after, delivered):
             checks.append(Check(name="Over-correction", ok=False, rule="leading power factor",
                                 detail=f"{delivered:.1f} kvar exceeds the load's {q_after:.1f} kvar: leading PF"))
-    checks.append(Check(name="Delivered covers the need", ok=delivered >= required - 1e-6, rule="design",
-                        detail=f"delivered {delivered:.1f} kvar at {v_s:g} V, {f_s:g} Hz; need {required:.1f} kvar"))
+    v_s, f_s = bank.supply.voltage_v, bank.supply.frequency_hz
+    checks.append(Check(name="Delivered covers the need", ok=delivered >= need.required_kvar - 1e-6, rule="design",
+                        detail=f"delivered {delivered:.1f} kvar at {v_s:g} V, {f_s:g} Hz; "
+                               f"need {need.required_kvar:.1f} kvar"))
+    return need
 
-    ctx = circuit_context(spec, bank, catalogs, where, field, rules)
+
+def _protect(bank: Bank, steps: list[Step], rating: UnitRating, ctx: CircuitContext,
+             checks: list[Check]) -> tuple[list[Step], Main]:
+    """Conductor, device and disconnect of each step and of the main incomer, sized on the larger of the
+    rated and the operating current (and, at a motor, on a third of the motor conductor: NEC 460.8(A))."""
     floor_a, floor_text = 0.0, ""
     if bank.motor is not None:  # NEC 460.8(A): also ≥ 1/3 of the motor circuit conductor's ampacity
         floor_a = bank.motor.conductor_ampacity_a / 3
@@ -193,8 +248,8 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
             "conductor": circuit.conductor.designation if circuit.conductor else "none",
             "conductor_ampacity_a": circuit.conductor.ampacity_a if circuit.conductor else 0.0,
             "sizing": circuit.lines}))
-    rated_current = cap.line_current_a(rated_kvar, v_r)
-    line_current = cap.line_current_a(delivered, v_s)
+    rated_current = cap.line_current_a(sum(s.rated_kvar for s in steps), rating.voltage_v)
+    line_current = cap.line_current_a(sum(s.kvar for s in steps), bank.supply.voltage_v)
     main_basis = max(rated_current, line_current)
     main_c = size_circuit(ctx, "Main", main_basis, _basis_text(rated_current, line_current), True,
                           floor_a, floor_text)
@@ -204,34 +259,37 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
                 conductor_ampacity_a=main_c.conductor.ampacity_a if main_c.conductor else 0.0,
                 device_rating_a=main_c.device.value if main_c.device else 0.0,
                 disconnect_rating_a=main_c.disconnect.value if main_c.disconnect else 0.0, sizing=main_c.lines)
+    return sized, main
 
+
+def _discharge(rules, bank: Bank, sized: list[Step], rating: UnitRating, checks: list[Check]):
+    """The discharge rule checked on the step with the most capacitance."""
     largest = max(sized, key=lambda s: s.capacitance_uf_per_leg)
-    discharge = discharge_for(rules, bank, largest, units, v_r, unit_connection)
+    discharge = discharge_for(rules, bank, largest, list(rating.units), rating.voltage_v, rating.connection)
     checks.append(Check(name="Discharge", ok=discharge.ok, rule=discharge.rule,
                         detail=(f"≤ {discharge.limit_v:g} V within {discharge.time_s:g} s needs R ≤ "
                                 f"{discharge.max_resistance_ohm:,.0f} Ω per leg; built-in resistors reach it in "
                                 f"{discharge.builtin_time_s:.0f} s")))
+    return discharge
 
-    resonance, rise = _system(bank, sized, checks, p)
-    system, system_checks = system_figures(
-        bank, sized, rules=rules.family, basis=rules, v_r=v_r, f_r=f_r, rise_pct=rise, unit_rows=units, factor=factor,
-        available_v=available, rated_current_a=rated_current, main_conductor_ampacity_a=main.conductor_ampacity_a,
-        main_conductor=main.conductor, ctx=ctx)
-    checks.extend(system_checks)
-    result = BankResult(
-        name=bank.name, rules=rules.family, connection=bank.connection, unit_connection=unit_connection,
-        supply_voltage_v=v_s, frequency_hz=f_s,
+
+def _bank_result(bank: Bank, rules, rating: UnitRating, need: NeedSummary, sized: list[Step], main: Main,
+                 discharge, resonance, rise, checks: list[Check], system, stated) -> BankResult:
+    """The sized bank's results, before the assembly is added."""
+    supply = bank.supply
+    rated_kvar = sum(s.rated_kvar for s in sized)
+    delivered = sum(s.kvar for s in sized)
+    return BankResult(
+        name=bank.name, rules=rules.family, connection=bank.connection, unit_connection=rating.connection,
+        supply_voltage_v=supply.voltage_v, frequency_hz=supply.frequency_hz,
         transformer_kva=supply.transformer_kva, transformer_z_pct=supply.transformer_z_pct, need=need,
-        required_kvar=required, delivered_kvar=delivered, capacitor_voltage_v=v_r, rated_kvar=rated_kvar,
-        rated_current_a=rated_current, line_current_a=line_current,
-        capacitance_uf_per_phase=cap.capacitance_uf_per_leg(rated_kvar, v_r, f_r, bank.connection),
+        required_kvar=need.required_kvar, delivered_kvar=delivered, capacitor_voltage_v=rating.voltage_v,
+        rated_kvar=rated_kvar, rated_current_a=main.rated_current_a,
+        line_current_a=cap.line_current_a(delivered, supply.voltage_v),
+        capacitance_uf_per_phase=cap.capacitance_uf_per_leg(rated_kvar, rating.voltage_v, rating.frequency_hz,
+                                                            bank.connection),
         detuning_pct=bank.detuning_pct, steps=sized, main=main, discharge=discharge, resonance=resonance,
-        voltage_rise_pct=rise, checks=checks, system=system, assumptions=assumptions(bank, ctx, basis))
-    assembled = assemble_bank(result, bank, catalogs, ctx, units)
-    if bank.harmonics is None:
-        return assembled
-    harmonics, harmonic_checks = harmonic_study(bank, assembled, rules.family, available)
-    return assembled.model_copy(update={"harmonics": harmonics, "checks": [*assembled.checks, *harmonic_checks]})
+        voltage_rise_pct=rise, checks=checks, system=system, assumptions=stated)
 
 
 def _units_of_connection(units, bank: Bank):
@@ -288,9 +346,11 @@ def _basis_text(rated_a: float, line_a: float) -> str:
     return "rated current" if rated_a >= line_a else "operating current, above rated"
 
 
-def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p, choice=None, connection=None) -> Step:
-    """One step: its units, currents and the capacitance per leg of the parts (``connection``: the units' own)."""
-    choice = choice or build_step(units, target, factor)
+def _size_step(index: int, target_kvar: float, bank: Bank, rating: UnitRating, choice=None) -> Step:
+    """One step: its units, currents and the capacitance per leg of the parts (the units' own connection)."""
+    v_s, f_s, p = bank.supply.voltage_v, bank.supply.frequency_hz, bank.tuning_factor
+    v_r, f_r, factor = rating.voltage_v, rating.frequency_hz, rating.factor
+    choice = choice or build_step(rating.units, target_kvar, factor)
     lines = [UnitLine(id=u.unit_id, qty=c, rated_kvar=u.rated_kvar, rated_voltage_v=u.rated_voltage_v,
                       rated_frequency_hz=u.rated_frequency_hz, delivered_kvar_each=u.rated_kvar * factor,
                       table=u.table, row=u.row) for u, c in zip(choice.units, choice.counts, strict=True)]
@@ -303,11 +363,10 @@ def _size_step(k, target, units, factor, bank, v_s, f_s, v_r, f_r, p, choice=Non
             capacitor_kvar_at_supply=at_supply,
             reactor_inductance_mh=det.reactor_inductance_mh(at_supply, v_s, f_s, p),
             reactor_current_a=det.reactor_current_a(choice.delivered_kvar, v_s))
-    return Step(index=k, target_kvar=target, kvar=choice.delivered_kvar, rated_kvar=choice.rated_kvar,
+    return Step(index=index, target_kvar=target_kvar, kvar=choice.delivered_kvar, rated_kvar=choice.rated_kvar,
                 rated_current_a=cap.line_current_a(choice.rated_kvar, v_r),
                 line_current_a=cap.line_current_a(choice.delivered_kvar, v_s),
-                capacitance_uf_per_leg=cap.capacitance_uf_per_leg(choice.rated_kvar, v_r, f_r,
-                                                                  connection or bank.connection),
+                capacitance_uf_per_leg=cap.capacitance_uf_per_leg(choice.rated_kvar, v_r, f_r, rating.connection),
                 units=lines, device="", device_rating_a=0.0, conductor="", conductor_ampacity_a=0.0, sizing=[],
                 detuning=detuning)
 
@@ -324,8 +383,9 @@ def _system(bank: Bank, steps, checks: list[Check], p: float):
         # Q_C: the capacitors' kvar at the supply voltage (without the reactor's rise), as h = 1/√(p + Q_C/S_sc)
         q_c += step.detuning.capacitor_kvar_at_supply if (p and step.detuning) else step.kvar
         h = detuned_resonance_order(s_sc, q_c, p)
-        points.append(ResonancePoint(steps=list(range(1, step.index + 1)), kvar=total, harmonic_order=h,
-                                     near_harmonic=sysc.near_harmonic(h)))
+        points.append(ResonancePoint(steps=list(range(1, step.index + 1)), kvar=total, capacitor_kvar=q_c,
+                                     harmonic_order=h, near_harmonic=sysc.near_harmonic(h),
+                                     position=sysc.harmonic_position(h)))
     # the resonance check (every step combination, detuned or not) is in system_checks
     rise = sysc.voltage_rise_sc_pct(total, s_sc)
     source = (f"{supply.transformer_kva:g} kVA, {supply.transformer_z_pct:g}% transformer"

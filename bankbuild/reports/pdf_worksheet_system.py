@@ -7,16 +7,14 @@ anything.
 
 from __future__ import annotations
 
-import math
 import re
 
 from bankbuild.reports.pdf_blocks import C, grid, heading, key_values, verdict
 from bankbuild.reports.pdf_common import P, gnum, num
-from bankbuild.reports.pdf_figures import bank_pairs, model_pairs
+from bankbuild.reports.pdf_figures import model_pairs
 from bankbuild.results.sizing import BankResult
 from bankbuild.results.text import step_span
 
-HARMONICS = (5, 7, 11, 13)
 NEAR_BAND_PCT = 10  # the pipeline flags an order within ±10% of a characteristic harmonic
 MAX_RESONANCE_ROWS = 48  # a 16-step bank has 65,535 combinations: the table shows the flagged ones first
 
@@ -29,9 +27,8 @@ def _check(bank: BankResult, name: str):
 def discharge_table(bank: BankResult, width: float):
     """The discharge rule, the largest resistance per leg that meets it, its wattage, and the built-in time."""
     dis = bank.discharge
-    leg_v = dis.start_voltage_v / math.sqrt(2)
-    ln_ratio = math.log(dis.start_voltage_v / dis.limit_v) if dis.start_voltage_v > dis.limit_v else 0.0
-    if ln_ratio > 0:
+    leg_v = dis.leg_voltage_v
+    if dis.start_voltage_v > dis.limit_v:
         r_text = (f"R ≤ t / (C·ln(V₀/V_lim)) = {gnum(dis.time_s)} s / ({num(dis.capacitance_uf_per_leg, 1, 'µF')}"
                   f" × ln({num(dis.start_voltage_v, 1)} / {gnum(dis.limit_v)})) = "
                   f"{num(dis.max_resistance_ohm, 0, 'Ω')} per leg")
@@ -62,61 +59,27 @@ def discharge_table(bank: BankResult, width: float):
     return [table, verdict_row]
 
 
-def _system(bank: BankResult):
-    """The bank's system figures when the pipeline gives them (``BankResult.system``), else None."""
-    return getattr(bank, "system", None)
-
-
 def reconnection_pairs(bank: BankResult) -> list[tuple[str, str]]:
     """The reconnection delay of automatic steps, when the results carry it."""
-    rec = getattr(bank, "reconnection", None)
+    rec = bank.reconnection
     if rec is None:
         return []
-    try:
-        return [
-            ("Reconnection delay", f"{num(rec.delay_s, 0, 's')} before a step is switched on again — {rec.rule}"),
-            ("Time to 10% of rated", f"{num(rec.time_to_10pct_s, 1, 's')} from {num(rec.start_voltage_v, 1, 'V')} "
-                                     f"to {num(rec.limit_10pct_v, 1, 'V')} with the units' own resistors"),
-            ("Time to 50 V", num(rec.time_to_50v_s, 1, "s")),
-        ]
-    except AttributeError:  # another shape of the figures: show every field as it is
-        return bank_pairs(bank, ("reconnection",))
-
-
-def short_circuit_kva(bank: BankResult) -> float:
-    """The short-circuit power the resonance orders were worked out with [kVA]."""
-    system = _system(bank)
-    mva = getattr(system, "short_circuit_mva", None) if system is not None else None
-    if mva:
-        return mva * 1000
-    if bank.resonance:
-        return bank.resonance[0].harmonic_order ** 2 * bank.resonance[0].kvar
-    return bank.transformer_kva * 100 / bank.transformer_z_pct
+    return [
+        ("Reconnection delay", f"{num(rec.delay_s, 0, 's')} before a step is switched on again — {rec.rule}"),
+        ("Time to 10% of rated", f"{num(rec.time_to_10pct_s, 1, 's')} from {num(rec.start_voltage_v, 1, 'V')} "
+                                 f"to {num(rec.limit_10pct_v, 1, 'V')} with the units' own resistors"),
+        ("Time to 50 V", num(rec.time_to_50v_s, 1, "s")),
+    ]
 
 
 def short_circuit_text(bank: BankResult) -> str:
-    """The transformer's short-circuit power, written out [kVA]."""
-    s_tx = bank.transformer_kva * 100 / bank.transformer_z_pct
+    """The transformer's short-circuit power written out, and the source's in series when given [kVA]."""
+    s_tx = bank.system.transformer_short_circuit_mva * 1000
     text = f"S_sc = {gnum(bank.transformer_kva)} kVA × 100 / {gnum(bank.transformer_z_pct)}% = {num(s_tx, 0, 'kVA')}"
-    used = short_circuit_kva(bank)
+    used = bank.system.short_circuit_mva * 1000
     if abs(used - s_tx) > 1e-3 * s_tx:
         text += f"; with the source in series S_sc = {num(used, 0, 'kVA')}"
     return text
-
-
-def nearest_text(order: float) -> str:
-    """Where an order lies against the 5th, 7th, 11th and 13th harmonics.
-
-    >>> nearest_text(11.68), nearest_text(26.87), nearest_text(3.2)
-    ('11th (+6%)', 'above the 13th', 'below the 5th')
-    """
-    band = NEAR_BAND_PCT / 100
-    if order > HARMONICS[-1] * (1 + band):
-        return f"above the {HARMONICS[-1]}th"
-    if order < HARMONICS[0] * (1 - band):
-        return f"below the {HARMONICS[0]}th"
-    nearest = min(HARMONICS, key=lambda h: abs(order - h) / h)
-    return f"{nearest}th ({(order - nearest) / nearest * 100:+.0f}%)"
 
 
 def steps_label(steps: list[int]) -> str:
@@ -136,9 +99,9 @@ def resonance_points(bank: BankResult) -> tuple[list, int, bool, bool]:
     reactors), else the cumulative ones (``resonance``). Past :data:`MAX_RESONANCE_ROWS` the flagged
     combinations come first, then the cumulative ones.
     """
-    system = _system(bank)
-    combos = list(getattr(system, "resonance_combinations", None) or []) if system is not None else []
-    complete = bool(getattr(system, "combinations_complete", True)) if combos else False
+    system = bank.system
+    combos = list(system.resonance_combinations) if system is not None else []
+    complete = system.combinations_complete if combos else False
     points = combos or list(bank.resonance)
     if len(points) > MAX_RESONANCE_ROWS:
         flagged = [p for p in points if p.near_harmonic]
@@ -149,23 +112,12 @@ def resonance_points(bank: BankResult) -> tuple[list, int, bool, bool]:
     return points_shown, len(points), complete, bool(combos)
 
 
-def order_formula(kvar: float, order: float, s_sc_kva: float, p: float) -> str:
-    """The resonance order written out: √(S_sc/Q) for plain steps, 1/√(Q_C/S_sc + p) with reactors, where
-    Q_C = Q·(1 − p) is the capacitor kvar behind the reactors. Numbers are shown only when they give ``order``.
-
-    >>> order_formula(100.0, 11.68, 13636.4, 0.0)
-    '√(13,636 kVA / 100.0 kvar)'
-    >>> order_formula(36.129, 3.745, 26087.0, 0.07)
-    '1/√(33.6 kvar / 26,087 kVA + 0.07)'
-    """
+def order_formula(point, s_sc_kva: float, p: float) -> str:
+    """The resonance order written out with the pipeline's numbers: √(S_sc/Q) for plain steps, 1/√(Q_C/S_sc + p)
+    with reactors, Q_C the capacitors' kvar at the supply voltage behind them."""
     if p:
-        q_c = kvar * (1 - p)
-        value = 1 / math.sqrt(q_c / s_sc_kva + p)
-        text = f"1/√({num(q_c, 1)} kvar / {num(s_sc_kva, 0)} kVA + {gnum(p)})"
-    else:
-        value = math.sqrt(s_sc_kva / kvar)
-        text = f"√({num(s_sc_kva, 0)} kVA / {num(kvar, 1)} kvar)"
-    return text if abs(value - order) <= 0.005 * order else "as in the Resonance check below"
+        return f"1/√({num(point.capacitor_kvar, 1)} kvar / {num(s_sc_kva, 0)} kVA + {gnum(p)})"
+    return f"√({num(s_sc_kva, 0)} kVA / {num(point.capacitor_kvar, 1)} kvar)"
 
 
 def resonance_table(bank: BankResult, points: list, with_reactors: bool, width: float):
@@ -175,15 +127,15 @@ def resonance_table(bank: BankResult, points: list, with_reactors: bool, width: 
     head = [C(h, "head") for h in ("Steps on", "kvar on", formula, "Order h", "Nearest of 5/7/11/13", "Result")]
     rows = [head]
     legacy_detuned = bool(bank.detuning_pct) and not with_reactors
-    s_sc = short_circuit_kva(bank)
+    s_sc = bank.system.short_circuit_mva * 1000
     for pt in points:
         if legacy_detuned:
             result = verdict(True, passed="detuned")
         else:
             result = verdict(pt.near_harmonic is None, failed=f"FLAG {pt.near_harmonic}th")
         rows.append([C(steps_label(pt.steps)), C(num(pt.kvar, 1)),
-                     C(order_formula(pt.kvar, pt.harmonic_order, s_sc, p)),
-                     C(f"{pt.harmonic_order:.2f}", "cell_bold"), C(nearest_text(pt.harmonic_order)), result])
+                     C(order_formula(pt, s_sc, p)),
+                     C(f"{pt.harmonic_order:.2f}", "cell_bold"), C(pt.position), result])
     shares = (0.12, 0.1, 0.3, 0.1, 0.22, 0.16)
     return grid(rows, [width * s for s in shares])
 
@@ -249,7 +201,7 @@ SYSTEM_PARTS = (("voltage", "Voltage and current on the units (IEEE 18, IEC 6083
 
 def system_figures(bank: BankResult, width: float) -> list:
     """The further system figures of ``BankResult.system`` when the pipeline gives them, one table each."""
-    system = _system(bank)
+    system = bank.system
     story: list = []
     if system is None:
         return story

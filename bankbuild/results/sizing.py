@@ -238,6 +238,7 @@ class Main(Frozen):
 class Discharge(Frozen):
     step_index: int
     capacitance_uf_per_leg: float
+    leg_voltage_v: float  # rated rms voltage across one leg (the start voltage is its peak, √2 times)
     start_voltage_v: float
     limit_v: float
     time_s: float
@@ -252,8 +253,10 @@ class Discharge(Frozen):
 class ResonancePoint(Frozen):
     steps: list[int]
     kvar: float
+    capacitor_kvar: float  # Q_C: the capacitors' kvar at the supply voltage (kvar·(1 − p) behind reactors)
     harmonic_order: float
     near_harmonic: int | None
+    position: str  # where the order lies against the characteristic harmonics, e.g. "11th (+6%)"
 
 
 class NeedSummary(Frozen):
@@ -356,7 +359,8 @@ class SystemResult(Frozen):
     """The bank in its system: voltage stress, resonance for every step combination, light load, motor."""
 
     voltage: VoltageStress
-    short_circuit_mva: float | None
+    short_circuit_mva: float | None  # the source the resonance orders are worked out with
+    transformer_short_circuit_mva: float | None  # the transformer alone: kVA × 100 / Z% / 1000
     resonance_combinations: list[ResonancePoint]
     combinations_complete: bool
     tuning: TuningCheck | None
