@@ -23,6 +23,10 @@ DEFAULT_LOAD_PF = 0.95
 """Displacement power factor of a drive's input when ``load_kw`` is given without ``load_pf`` [-]: common
 practice (no single source) for diode-front drives, from memory."""
 
+IEC_61000_2_4_CLASS2_PCT = {5: 6.0, 7: 5.0, 11: 3.5, 13: 3.0, 17: 2.0, 19: 1.5, 23: 1.5, 25: 1.5}
+"""IEC 61000-2-4 class 2 compatibility levels of harmonic voltage, by order [% of the fundamental]; from memory
+(trade-facts, Harmonics). THD 8 %."""
+
 OrderKey = Annotated[str, Field(pattern=r"^h([2-9]|[1-4][0-9]|50)$")]
 SpectrumName = Literal[tuple(SPECTRA)]
 

@@ -24,7 +24,7 @@ from pydantic import (
 )
 from pydantic_core import InitErrorDetails, PydanticCustomError
 
-from bankbuild.spec.harmonics import Harmonics
+from bankbuild.spec.harmonics import IEC_61000_2_4_CLASS2_PCT, Harmonics
 
 TEXT_MAX = 200
 BUILTIN_RULES = ("nec", "iec", "csa")  # built-in rule bases; ``nec`` takes its edition from ``nec_edition``
@@ -226,7 +226,7 @@ class DischargeRule(_Strict):
     time_s: Annotated[float, Field(gt=0, le=3600)]
 
 
-HARMONIC_VOLTAGE_PCT = {"h5": 6.0, "h7": 5.0, "h11": 3.5, "h13": 3.0}
+HARMONIC_VOLTAGE_PCT = {f"h{h}": pct for h, pct in IEC_61000_2_4_CLASS2_PCT.items() if h <= 13}
 """Default harmonic voltages a detuned step is rated for [% of the fundamental], keyed ``h<order>``: the class 2
 compatibility levels of IEC 61000-2-4 (and the public LV levels of IEC 61000-2-2) for orders 5, 7, 11, 13 - from
 memory. Triplen orders are left out: they do not flow in a three-wire delta bank."""

@@ -15,6 +15,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from bankbuild.calc import harmonic_duty as hd
 from bankbuild.calc import harmonics as hm
 from bankbuild.calc import system as sysc
 from bankbuild.spec.spectra import SPECTRA
@@ -95,15 +96,15 @@ def test_bus_voltage_agrees_with_nodal_solution(case, h, inject_a, background_v)
     emf = background_v / abs(v_bare)
     v_i, _ = nodal_solve(net.source_r_ohm, net.source_x_ohm, branches, net.damping_r_ohm, h, inject_a, 0.0)
     v_e, caps = nodal_solve(net.source_r_ohm, net.source_x_ohm, branches, net.damping_r_ohm, h, 0.0, emf)
-    ours = hm.bus_voltages(net, {h: inject_a}, {h: background_v})[h]
+    ours = hd.bus_voltages(net, {h: inject_a}, {h: background_v})[h]
     assert ours == pytest.approx(abs(v_i) + abs(v_e), rel=1e-9, abs=1e-12)
     # the bank's own divider: the background alone, and the capacitor voltage it leaves on each branch
-    ours_bg = hm.bus_voltages(net, {}, {h: background_v})[h]
+    ours_bg = hd.bus_voltages(net, {}, {h: background_v})[h]
     assert ours_bg == pytest.approx(abs(v_e), rel=1e-9, abs=1e-12)
     for branch, v_cap in zip(net.branches, caps, strict=True):
-        duty = hm.capacitor_duty(branch, {h: abs(v_e)}, 1.0)
+        duty = hd.capacitor_duty(branch, {h: abs(v_e)}, 1.0)
         assert duty.voltage_rms_pu == pytest.approx(abs(v_cap), rel=1e-9, abs=1e-12)
-    bare_ours = hm.bus_voltages(net, {h: inject_a}, {h: background_v}, with_bank=False)[h]
+    bare_ours = hd.bus_voltages(net, {h: inject_a}, {h: background_v}, with_bank=False)[h]
     v_i0, _ = nodal_solve(net.source_r_ohm, net.source_x_ohm, [], net.damping_r_ohm, h, inject_a, 0.0)
     assert bare_ours == pytest.approx(background_v + abs(v_i0), rel=1e-9, abs=1e-12)
 
@@ -243,7 +244,7 @@ def test_ieee18_limits_reached_exactly():
     """IEEE Std 18 (2002 and later) continuous limits: 110 % rms voltage, 120 % peak, 135 % current, 135 % kvar.
     A plain capacitor at 1.0 pu with 20 % of 5th-harmonic voltage sits at the 120 % peak limit exactly
     (1 + 0.2) and at √(1 + 1²) = 1.414 pu current (5·0.2 = 1.0 pu at the 5th): over 135 %."""
-    duty = hm.capacitor_duty(hm.Branch(1.0), {1: 1.0, 5: 0.2}, 1.0)
+    duty = hd.capacitor_duty(hm.Branch(1.0), {1: 1.0, 5: 0.2}, 1.0)
     assert duty.voltage_peak_pu == pytest.approx(1.20)  # IEEE 18 peak limit 120 %
     assert duty.voltage_rms_pu == pytest.approx(math.sqrt(1.04))
     assert duty.current_rms_pu == pytest.approx(math.sqrt(2.0))
@@ -254,7 +255,7 @@ def test_detuned_capacitor_sees_raised_fundamental():
     """A 7 % detuned step: the capacitor sees U/(1 − p) at the fundamental (IEC 61642, from memory):
     400 V → 430.1 V."""
     branch = hm.Branch(1.0, 0.07)
-    duty = hm.capacitor_duty(branch, {1: 400.0}, 400.0)
+    duty = hd.capacitor_duty(branch, {1: 400.0}, 400.0)
     assert duty.voltage_rms_pu * 400.0 == pytest.approx(430.1, abs=0.05)
 
 
@@ -262,7 +263,7 @@ def test_thd_of_ieee519_limit_spectrum():
     """IEEE 519-2014 Table 1 (from memory), bus ≤ 1 kV: 5 % individual, 8 % THD. Five orders at 3.58 % each
     make 8.0 % THD while each stays under the 5 % individual limit."""
     spectrum = {h: 8.0 / math.sqrt(5) for h in (5, 7, 11, 13, 17)}
-    assert hm.thd_pct(spectrum, 100.0) == pytest.approx(8.0)
+    assert hd.thd_pct(spectrum, 100.0) == pytest.approx(8.0)
     assert max(spectrum.values()) < 5.0
 
 

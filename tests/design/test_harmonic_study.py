@@ -174,3 +174,34 @@ def test_rerate_reruns_the_study_at_the_new_supply(catalogs):
     study = moved.at_new_supply.harmonics
     assert study is not None
     assert study.source_x_ohm == pytest.approx(0.415**2 / (1.5 / 0.0575))
+
+
+def test_every_combination_against_a_bus_solution_with_separate_steps(catalogs):
+    """Plain steps of unequal size, a utility source of its own X/R behind the transformer, and a damping load:
+    each combination's bus voltages rebuilt here from the supply data (the bus node's admittance with each
+    step its own capacitor, the background as an EMF behind the source), without calc.harmonics."""
+    supply = SUPPLY | {"source_sc_mva": 60}
+    spec = DRIVES | {"transformer_x_r": 6, "source_x_r": 12, "damping_kw": 150,
+                     "background_voltage_pct": {"h5": 1.5, "h7": 0.8, "h11": 0.4}}
+    result = size_project(Spec.model_validate({"banks": [
+        {"name": "B", "supply": supply, "need": {"kvar": 300}, "steps": [25, 50, 75, 150], "harmonics": spec}]}),
+        catalogs).banks[0]
+    v = 480.0
+    phase = v / math.sqrt(3)
+    x_t, x_u = v**2 / (1.5e6 / 0.0575), v**2 / 60e6
+    r_src, x_src = x_t / 6 + x_u / 12, x_t + x_u  # R constant with h, X at the fundamental
+    g_d = 150e3 / v**2
+    kvar = {s.index: s.kvar for s in result.steps}
+
+    def bus(h, members, inject, emf):
+        z_src = complex(r_src, h * x_src)
+        y = 1 / z_src + g_d + sum(1j * h * kvar[m] * 1000 / v**2 for m in members)  # each capacitor: j·h·B
+        return abs((emf / z_src + inject) / y)
+
+    for combo in result.harmonics.combinations:
+        for key, pct in combo.bus_voltage_pct.items():
+            h = int(key[1:])
+            bg = spec["background_voltage_pct"].get(key, 0.0) / 100 * phase
+            emf = bg / bus(h, [], 0.0, 1.0)  # the stated background is what the bus shows without the bank
+            expected = bus(h, combo.steps, 0.0, emf) + bus(h, combo.steps, spec["current_pct"][key] / 100 * 800, 0.0)
+            assert pct == pytest.approx(100 * expected / phase, rel=1e-9)
