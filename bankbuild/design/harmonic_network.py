@@ -108,7 +108,7 @@ def evaluate(case: Case, combos: list[tuple[float, list[int]]], orders: list[flo
     return out
 
 
-def build_case(bank, result, cap_kvar, delivered, p: float, rules: str, f_r: float) -> Case:
+def build_case(bank, result, cap_kvar, delivered, p: float, rules, f_r: float) -> Case:
     spec = bank.harmonics
     supply = bank.supply
     v_s = supply.voltage_v
@@ -120,7 +120,7 @@ def build_case(bank, result, cap_kvar, delivered, p: float, rules: str, f_r: flo
     i_1 = spec.load_fundamental_a(v_s)
     phase_v = v_s / SQRT3
     t_l = bank.assembly.reactor_tolerance_pct / 100.0
-    minus, plus = (t / 100.0 for t in CAPACITANCE_TOLERANCE_PCT[rules])
+    minus, plus = (t / 100.0 for t in CAPACITANCE_TOLERANCE_PCT[rules.family])
     corners = (("nominal", 1.0, 1.0),)
     if p:
         pct_l = bank.assembly.reactor_tolerance_pct

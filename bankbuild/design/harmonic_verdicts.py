@@ -9,13 +9,6 @@ from bankbuild.calc import EPS
 from bankbuild.calc import capacitor as cap
 from bankbuild.calc import detuning as det
 from bankbuild.calc import harmonic_duty as hd
-from bankbuild.design.checks import (
-    IEC_CURRENT_PU,
-    IEC_VOLTAGE_CLASSES,
-    IEEE18_CURRENT_PU,
-    IEEE18_KVAR_PU,
-    IEEE18_VOLTAGE_PU,
-)
 from bankbuild.design.harmonic_network import (
     SQRT3,
     Case,
@@ -38,15 +31,24 @@ IEEE519_RULE = ("IEEE 519-2014 Table 1, bus ≤ 1.0 kV: each harmonic ≤ 5.0 %,
 IEC_61000_2_4_THD_PCT = 8.0
 IEC_61000_2_4_RULE = ("IEC 61000-2-4 class 2 compatibility levels (from memory): THD 8 %; h5 6, h7 5, h11 3.5, "
                       "h13 3, h17 2, h19-h25 1.5 %")
-IEC_8H_VOLTAGE_PU = IEC_VOLTAGE_CLASSES[1][0]  # IEC 60831-1: 1.10 U_N for 8 h in every 24 h (from memory)
-LIMITS_BY_RULES = {  # capacitor duty: (rms voltage, peak voltage, rms current, kvar) per unit of rating, rule
-    "nec": (IEEE18_VOLTAGE_PU, IEEE18_PEAK_VOLTAGE_PU, IEEE18_CURRENT_PU, IEEE18_KVAR_PU,
-            "IEEE 18 (2002 and later): ≤ 110 % rms voltage, ≤ 120 % peak voltage (sum of the harmonic peaks), "
-            "≤ 135 % rms current, ≤ 135 % kvar"),
-    "iec": (IEC_8H_VOLTAGE_PU, None, IEC_CURRENT_PU, None,
-            "IEC 60831-1: ≤ 1.10 U_N rms (8 h in every 24 h), ≤ 1.30 I_N rms current (from memory); no peak or "
-            "kvar limit of its own"),
-}
+IEEE18_PEAK_RULE = "IEEE 18: ≤ 120 % of rated peak voltage (the harmonic peaks added)"
+
+
+def duty_limits(rules) -> tuple[float, float | None, float, float | None, str]:
+    """Capacitor duty limits of a rule basis: (rms voltage, peak voltage, rms current, kvar) per unit of rating,
+    and the rule text, all from the basis's ``voltage_limits``; the IEEE 18 peak limit on the nec family.
+
+    The rms voltage limit is the one the basis allows for hours a day (its light-load limit: IEC 60831-1's
+    1.10 U_N for 8 h in 24 h; IEEE 18's continuous 110 %), as harmonic distortion lasts while the plant runs.
+    """
+    lim = rules.voltage_limits
+    peak = IEEE18_PEAK_VOLTAGE_PU if rules.family == "nec" else None
+    parts = [lim.light_load_text or lim.clause, lim.current_clause]
+    if peak is not None:
+        parts.append(IEEE18_PEAK_RULE)
+    return lim.light_load_limit_pu, peak, lim.current_pu, lim.kvar_pu, "; ".join(parts)
+
+
 CANDIDATE_TUNING_PCT = (5.67, 7.0, 14.0)
 """Tunings tried for a failing plain bank, the usual reactor series (trade-facts: 5.67 %, 7 %, 14 %)."""
 BAND = 0.10  # a tuning within 10 % below a harmonic is too close (the resonance check's ±10 % band)
@@ -58,9 +60,9 @@ def duty_pu(duty: hd.CapacitorDuty, scale: float) -> hd.CapacitorDuty:
                             duty.kvar_pu / scale**2)
 
 
-def duty_ratio(duty: hd.CapacitorDuty, rules: str) -> float:
+def duty_ratio(duty: hd.CapacitorDuty, rules) -> float:
     """The largest share of a limit the duty uses (> 1: over a limit)."""
-    v, peak, i, q, _ = LIMITS_BY_RULES[rules]
+    v, peak, i, q, _ = duty_limits(rules)
     ratios = [duty.voltage_rms_pu / v, duty.current_rms_pu / i]
     if peak is not None:
         ratios.append(duty.voltage_peak_pu / peak)
@@ -97,7 +99,7 @@ def distortion_limits(combos: list[Combo], bare_v: dict[int, float], phase_v: fl
     return out
 
 
-def tuning_candidates(bank, result, rules: str, f_r: float, available_v: list[float]) -> list[TuningCandidate]:
+def tuning_candidates(bank, result, rules, f_r: float, available_v: list[float]) -> list[TuningCandidate]:
     """Each usual tuning applied to every step (same delivered kvar), the lowest unit voltage that passes."""
     out = []
     delivered = [s.kvar for s in result.steps]
@@ -133,7 +135,7 @@ def tuning_candidates(bank, result, rules: str, f_r: float, available_v: list[fl
     return out
 
 
-def recommend(bank, result, case: Case, failing: bool, rules: str, f_r: float,
+def recommend(bank, result, case: Case, failing: bool, rules, f_r: float,
                available_v: list[float]) -> HarmonicRecommendation:
     lowest = lowest_harmonic(case)
     if case.p:

@@ -26,8 +26,8 @@ from bankbuild.design.harmonic_network import (
     evaluate,
 )
 from bankbuild.design.harmonic_verdicts import (
-    LIMITS_BY_RULES,
     distortion_limits,
+    duty_limits,
     duty_pu,
     duty_ratio,
     recommend,
@@ -75,7 +75,7 @@ def _chart(case: Case, orders: list[float], combos: list[Combo], marked: list[in
                         resolution=hm.SCAN_STEP)
 
 
-def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicStudy, list[Check]]:
+def study(bank, result, rules, available_v: list[float]) -> tuple[HarmonicStudy, list[Check]]:
     """The harmonic study of a sized (and assembled) bank.
 
     Parameters
@@ -84,8 +84,9 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
         The bank's spec, with its ``harmonics`` block and a transformer.
     result : BankResult
         The sized bank: steps with their protection and (detuned) reactors.
-    rules : str
-        The rule basis, ``nec`` or ``iec``: which capacitor duty limits apply.
+    rules : RuleBasisFile
+        The rule basis (``bankbuild.spec.rulebasis``): its family sets the capacitance tolerance, its
+        ``voltage_limits`` the capacitor duty limits.
     available_v : list of float
         Rated voltages in the unit table at the units' frequency (for the recommendation).
 
@@ -109,7 +110,7 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
     phase_v = case.phase_v
     rated_phase_v = result.capacitor_voltage_v / SQRT3
 
-    lim_v, lim_peak, lim_i, lim_q, duty_rule = LIMITS_BY_RULES[rules]
+    lim_v, lim_peak, lim_i, lim_q, duty_rule = duty_limits(rules)
     worst_combo, worst_corner, worst_duty = None, "nominal", None
     for c in combos:
         for corner, d in c.duty.items():
@@ -173,7 +174,7 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
         "percentages of the nominal phase voltage; capacitor duty per unit of the units' rating",
     ]
     if p:
-        minus, plus = CAPACITANCE_TOLERANCE_PCT[rules]
+        minus, plus = CAPACITANCE_TOLERANCE_PCT[rules.family]
         assumptions.append(
             f"detuned steps at three corners: nominal; reactor +{bank.assembly.reactor_tolerance_pct:g} % with "
             f"capacitance +{plus:g} %; reactor −{bank.assembly.reactor_tolerance_pct:g} % with capacitance "
@@ -187,7 +188,7 @@ def study(bank, result, rules: str, available_v: list[float]) -> tuple[HarmonicS
         source_x_r=spec.source_x_r if supply.source_sc_mva else None, source_r_ohm=case.source_r_ohm,
         source_x_ohm=case.source_x_ohm, damping_kw=spec.damping_kw, reactor_q=spec.reactor_q,
         reactor_tolerance_pct=bank.assembly.reactor_tolerance_pct,
-        capacitance_tolerance_pct=list(CAPACITANCE_TOLERANCE_PCT[rules]), combinations=combination_results,
+        capacitance_tolerance_pct=list(CAPACITANCE_TOLERANCE_PCT[rules.family]), combinations=combination_results,
         combinations_complete=complete, worst=worst, steps=steps, current_corner=top.current_corner,
         main_current_rms_a=main_rms,
         main_device_rating_a=result.main.device_rating_a,

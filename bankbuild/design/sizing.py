@@ -136,7 +136,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
     assembled = assemble_bank(result, bank, catalogs, ctx, list(rating.units))
     if bank.harmonics is None:
         return assembled
-    harmonics, harmonic_checks = harmonic_study(bank, assembled, rules.family, list(rating.available_v))
+    harmonics, harmonic_checks = harmonic_study(bank, assembled, rules, list(rating.available_v))
     return assembled.model_copy(update={"harmonics": harmonics, "checks": [*assembled.checks, *harmonic_checks]})
 
 
