@@ -16,6 +16,7 @@ class BankbuildError(Exception):
     """Base of every error that the CLI turns into exit code 2 and one line."""
 
     field_is_parameter = False  # the field names a spec key or table column, not a parameter
+    also: tuple[BankbuildError, ...] = ()  # further problems of the same input, each one line (a spec's others)
 
     def __init__(self, where: str, field: str, problem: str) -> None:
         self.where = where

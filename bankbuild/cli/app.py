@@ -355,7 +355,8 @@ def run(argv: list[str] | None = None) -> int:
     try:
         code = command.main(args=argv, prog_name="bankbuild", standalone_mode=False)
     except BankbuildError as exc:
-        typer.echo(f"bankbuild: error: {_one_line(exc.line(OptionNames()))}", err=True)
+        for problem in (exc, *exc.also):  # a spec's every problem, one line each
+            typer.echo(f"bankbuild: error: {_one_line(problem.line(OptionNames()))}", err=True)
         return 2
     except TyperException as exc:  # usage errors of the command line (bad option, missing argument, …)
         ctx = getattr(exc, "ctx", None)

@@ -35,6 +35,38 @@ SUGGESTED_DETUNING = 0.07  # the usual tuning factor offered (189 Hz at 50 Hz, 2
 MAX_COMBINATIONS = 2048
 
 
+PERCENT_KEYS = (  # (key path, what it is, the range such values usually take [%]): common practice (no single source)
+    (("supply", "transformer_z_pct"), "a distribution transformer's impedance", "4–8"),
+    (("detuning_pct",), "a detuning tuning factor", "5.67–14"),
+    (("voltage_margin_pct",), "a voltage margin", "5–10"),
+)
+
+
+def percent_as_fraction_checks(bank) -> list[Check]:
+    """A percentage key written as a fraction (``transformer_z_pct: 0.0575`` for 5.75 %): a flag that names the
+    key and the likely value; the bank is still sized as written.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as NS
+    >>> bank = NS(supply=NS(transformer_z_pct=0.0575), detuning_pct=7.0, voltage_margin_pct=0.0)
+    >>> [c.detail.split(";")[0] for c in percent_as_fraction_checks(bank)]
+    ['supply.transformer_z_pct is 0.0575 %']
+    """
+    checks = []
+    for path, what, usual in PERCENT_KEYS:
+        value = bank
+        for part in path:
+            value = getattr(value, part, None)
+        if value is not None and 0 < value < 1:
+            key = ".".join(path)
+            checks.append(Check(
+                name="Percentage written as a fraction?", ok=False, level="caution", rule="spec plausibility",
+                detail=f"{key} is {value:g} %; {what} is usually {usual} %: did you mean {value * 100:g}? "
+                       f"(sized as written; a _pct key is in percent)"))
+    return checks
+
+
 def iec_duration(voltage_pu: float) -> str:
     """How long IEC 60831-1 lets a unit run at ``voltage_pu`` × U_N (from memory).
 

@@ -11,7 +11,7 @@ from bankbuild.calc import system as sysc
 from bankbuild.design.assembly import assemble_bank
 from bankbuild.design.assembly import step_targets as planned_targets
 from bankbuild.design.bom import project_bom
-from bankbuild.design.checks import detuned_resonance_order, system_figures
+from bankbuild.design.checks import detuned_resonance_order, percent_as_fraction_checks, system_figures
 from bankbuild.design.existing import resolve_units
 from bankbuild.design.harmonics import study as harmonic_study
 from bankbuild.design.protection import CircuitContext, size_circuit
@@ -116,7 +116,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
     basis = rule_basis_for(spec, basis)
     rules = basis.rules
     field = f"banks[{index}] ({bank.name})"
-    checks: list[Check] = []
+    checks: list[Check] = percent_as_fraction_checks(bank)
     need = _need(bank, where, field)
     rating = _unit_rating(bank, catalogs, where, field, checks)
     steps = _steps(bank, need.required_kvar, rating)

@@ -44,8 +44,39 @@ PowerFactor = Annotated[float, Field(gt=0, le=1)]
 Efficiency = Annotated[float, Field(gt=0, le=1)]
 
 
+def _text_choices(model: type[BaseModel]) -> dict[str, tuple[str, ...]]:
+    """The fields of ``model`` that take one of a few words (a ``Literal`` of text), with those words."""
+    import typing
+
+    choices = {}
+    for name, info in model.model_fields.items():
+        words = []
+        for arg in (info.annotation, *typing.get_args(info.annotation)):
+            if typing.get_origin(arg) is Literal:
+                words += [w for w in typing.get_args(arg) if isinstance(w, str)]
+        if words:
+            choices[name] = tuple(words)
+    return choices
+
+
 class _Strict(BaseModel):
     model_config = ConfigDict(extra="forbid", strict=True, allow_inf_nan=False, frozen=True)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _choices_in_any_case(cls, data: object) -> object:
+        """A choice may be written in any case (``NEC``, ``Fuse``, ``pvc``): it is read as the listed word."""
+        if not isinstance(data, dict):
+            return data
+        fixed = None
+        for name, words in _text_choices(cls).items():
+            value = data.get(name)
+            if isinstance(value, str) and value not in words:
+                same = [w for w in words if w.lower() == value.strip().lower()]
+                if same:
+                    fixed = dict(data) if fixed is None else fixed
+                    fixed[name] = same[0]
+        return data if fixed is None else fixed
 
 
 class Project(_Strict):

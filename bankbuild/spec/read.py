@@ -31,7 +31,7 @@ def read_spec(path: str | Path) -> SpecFile:
     where = str(path)
     raw = _read_bytes(Path(path), where)
     data = parse_yaml(raw, where)
-    spec = validate_spec(data, where)
+    spec = validate_spec(data, where, raw)
     return SpecFile(spec=spec, path=where, sha256=hashlib.sha256(raw).hexdigest(),
                     base_dir=Path(path).resolve().parent)
 
@@ -46,7 +46,7 @@ def read_spec_text(text: str, where: str = "<spec text>", base_dir: Path | None 
     if len(raw) > MAX_SPEC_BYTES:
         raise SpecError(where, "", f"text is {len(raw):,} bytes; a spec may be at most {MAX_SPEC_BYTES:,} bytes")
     data = parse_yaml(raw, where)
-    spec = validate_spec(data, where)
+    spec = validate_spec(data, where, raw)
     return SpecFile(spec=spec, path=where, sha256=hashlib.sha256(raw).hexdigest(),
                     base_dir=(base_dir or Path.cwd()).resolve())
 
@@ -97,6 +97,19 @@ def _read_bytes(path: Path, where: str) -> bytes:
     return raw
 
 
+_BASE60_INT = "|[-+]?[1-9][0-9_]*(?::[0-5]?[0-9])+"
+_BASE60_FLOAT = "|[-+]?[0-9][0-9_]*(?::[0-5]?[0-9])+\\.[0-9_]*"
+
+
+def _without(regex, alternative: str):
+    """``regex`` without one of its ``|`` alternatives (PyYAML's resolvers are verbose patterns)."""
+    pattern = regex.pattern
+    compact = "".join(pattern.split())
+    if alternative not in compact:
+        raise RuntimeError("PyYAML's number pattern changed; revisit the base-60 rule of the spec loader")
+    return re.compile(compact.replace(alternative, ""))
+
+
 @functools.lru_cache(maxsize=1)
 def _yaml_loader():
     """The safe loader (its C build, libyaml, where installed: same rules, many times faster), adapted.
@@ -111,9 +124,13 @@ def _yaml_loader():
     class SpecLoader(base):  # type: ignore[misc, valid-type]
         pass
 
+    # Dates stay text; and YAML 1.1's base-60 numbers are not numbers here: an unquoted step pattern 1:2:2
+    # would otherwise be read as 3722 (1·3600 + 2·60 + 2). It stays the text 1:2:2.
     stamp = "tag:yaml.org,2002:timestamp"
+    sexagesimal = {"tag:yaml.org,2002:int": _BASE60_INT, "tag:yaml.org,2002:float": _BASE60_FLOAT}
     SpecLoader.yaml_implicit_resolvers = {
-        first: [(tag, rx) for tag, rx in resolvers if tag != stamp]
+        first: [(tag, _without(rx, sexagesimal[tag]) if tag in sexagesimal else rx)
+                for tag, rx in resolvers if tag != stamp]
         for first, resolvers in base.yaml_implicit_resolvers.items()}
 
     def construct_int(loader, node):
@@ -127,9 +144,15 @@ def _yaml_loader():
     return SpecLoader
 
 
-def _yaml_problem(exc: Exception, where: str) -> SpecError:
+def _yaml_problem(exc: Exception, where: str, text: str = "") -> SpecError:
     mark = getattr(exc, "problem_mark", None)
     at = f"line {mark.line + 1}, column {mark.column + 1}" if mark else ""
+    lines = text.split("\n")
+    tabbed = mark is not None and mark.line < len(lines) and "\t" in lines[mark.line][: mark.column + 1]
+    if tabbed or "tab character" in str(exc) or "'\\t'" in str(exc):
+        return SpecError(where, f"line {mark.line + 1}" if mark else "",
+                         "not valid YAML: a tab character indents this line; YAML indents with spaces only (set "
+                         "the editor to insert spaces)")
     problem = getattr(exc, "problem", None) or str(exc).splitlines()[0]
     return SpecError(where, at, f"not valid YAML ({problem})")
 
@@ -151,13 +174,13 @@ def parse_yaml(raw: bytes, where: str) -> Any:
     try:
         nodes = _scan_events(text, where)
     except yaml.YAMLError as exc:
-        raise _yaml_problem(exc, where) from None
+        raise _yaml_problem(exc, where, text) from None
     if nodes == 0:
         raise SpecError(where, "", "the file is empty: a spec needs at least 'banks'")
     try:
         data = yaml.load(text, Loader=_yaml_loader())  # noqa: S506 - a safe loader, events checked above
     except yaml.YAMLError as exc:
-        raise _yaml_problem(exc, where) from None
+        raise _yaml_problem(exc, where, text) from None
     except (ValueError, OverflowError) as exc:  # e.g. a 5,000-digit number or a date like 2026-13-45
         shown = str(exc).split(":")[0][:80]
         raise SpecError(where, "", f"a value cannot be read ({shown})") from None
@@ -256,8 +279,16 @@ def _scan_events(text: str, where: str) -> int:
     return nodes
 
 
-def validate_spec(data: dict, where: str) -> Any:
-    """Validate a parsed spec mapping; the first problem becomes one line naming the field."""
+MAX_PROBLEMS = 8
+"""The most problems of one spec listed at once (the first ones by line); the rest are counted."""
+
+
+def validate_spec(data: dict, where: str, raw: bytes | None = None) -> Any:
+    """Validate a parsed spec mapping; every problem (up to :data:`MAX_PROBLEMS`) becomes one line naming the field.
+
+    The :class:`SpecError` raised is the first problem by line; ``also`` holds the others, so that a user sees
+    every mistake of a file at once. With the file's bytes (``raw``) each line ends with its line number.
+    """
     from pydantic import ValidationError
 
     from bankbuild.spec.model import Spec
@@ -265,16 +296,111 @@ def validate_spec(data: dict, where: str) -> Any:
     try:
         return Spec.model_validate(data)
     except ValidationError as exc:
-        errors = exc.errors(include_url=False)
-        # An unknown key first: a misspelt required key is also reported missing, and the spelling is the cause.
-        first = min(errors, key=lambda e: e.get("type") != "extra_forbidden")
-        field = field_path(first["loc"], data)
-        more = f" (and {len(errors) - 1} more problem{'s' if len(errors) > 2 else ''})" if len(errors) > 1 else ""
-        raise SpecError(where, field, _message(first) + _did_you_mean(first, errors) + more) from None
+        raise spec_problems(exc.errors(include_url=False), data, where, raw) from None
+
+
+def spec_problems(errors: list[dict], data: Any, where: str, raw: bytes | None = None) -> SpecError:
+    """One :class:`SpecError` for a list of pydantic errors: the first by line, the rest in ``also``."""
+    lines = _line_finder(raw)
+    chosen = _one_per_field(errors, data)
+    found = []
+    for error in chosen:
+        line = lines(error["loc"])
+        hint = _did_you_mean(error, errors)
+        problem = "unknown key" + hint if hint else _message(error)
+        found.append((line if line is not None else 10**9, field_path(error["loc"], data),
+                      problem + (f" (line {line})" if line is not None else "")))
+    found.sort(key=lambda f: f[0])
+    shown = [SpecError(where, field, problem) for _, field, problem in found[:MAX_PROBLEMS]]
+    if len(found) > MAX_PROBLEMS:
+        left = len(found) - MAX_PROBLEMS
+        shown.append(SpecError(where, "", f"and {left} more problem{'s' if left > 1 else ''}"))
+    first = shown[0]
+    first.also = tuple(shown[1:])
+    if first.also:
+        more = len(found) - 1
+        first.args = (f"{first.line()} (and {more} more problem{'s' if more > 1 else ''}: see .also)",)
+    return first
+
+
+def _one_per_field(errors: list[dict], data: Any) -> list[dict]:
+    """The errors worth showing: one per field (an unknown key before anything else said of it), and no
+    'missing' for a key whose misspelling is reported beside it."""
+    import difflib
+
+    spelt = {}
+    for e in errors:
+        loc = e["loc"]
+        if e.get("type") == "extra_forbidden" and loc and isinstance(loc[-1], str):
+            spelt.setdefault(tuple(loc[:-1]), []).append(loc[-1])
+    kept: dict[str, dict] = {}
+    for e in sorted(errors, key=lambda e: e.get("type") != "extra_forbidden"):
+        loc = e["loc"]
+        if e.get("type") == "missing" and isinstance(loc[-1], str):
+            typos = spelt.get(tuple(loc[:-1]), [])
+            if any(difflib.get_close_matches(t, [loc[-1]], n=1, cutoff=0.6) for t in typos):
+                continue
+        kept.setdefault(field_path(loc, data), e)
+    return list(kept.values())
+
+
+def _line_finder(raw: bytes | None):
+    """A function from a pydantic location to the line the value (or, for a missing key, its mapping)
+    starts on; None without the text, or where the location is not found."""
+    if raw is None:
+        return lambda loc: None
+    import yaml
+
+    try:
+        root = yaml.compose(raw.decode("utf-8-sig"), Loader=_yaml_loader())  # events were checked on reading
+    except (yaml.YAMLError, UnicodeDecodeError):
+        return lambda loc: None
+
+    def find(loc) -> int | None:
+        node = root
+        for part in loc:
+            if isinstance(part, int) and isinstance(node, yaml.SequenceNode) and part < len(node.value):
+                node = node.value[part]
+            elif isinstance(part, str) and isinstance(node, yaml.MappingNode):
+                match = next(((k, v) for k, v in node.value if getattr(k, "value", None) == part), None)
+                if match is None:
+                    if part[:1].isupper() or "[" in part:  # a union's tag, not a key
+                        continue
+                    return node.start_mark.line + 1
+                key, node = match
+                if part == loc[-1]:
+                    return key.start_mark.line + 1
+        return node.start_mark.line + 1 if node is not None else None
+
+    return find
+
+
+def _model_keys(loc: tuple) -> list[str]:
+    """Every key the spec model accepts where ``loc`` points (a bank, a load, the supply …)."""
+    import typing
+
+    from pydantic import BaseModel
+
+    from bankbuild.spec.model import Spec
+
+    def models_in(annotation) -> list[type]:
+        if isinstance(annotation, type) and issubclass(annotation, BaseModel):
+            return [annotation]
+        return [m for arg in typing.get_args(annotation) for m in models_in(arg)]
+
+    models: list[type] = [Spec]
+    for part in loc:
+        if isinstance(part, str):
+            inner = [m for model in models if part in model.model_fields
+                     for m in models_in(model.model_fields[part].annotation)]
+            if inner or any(part in model.model_fields for model in models):
+                models = inner
+    return sorted({key for model in models for key in model.model_fields})
 
 
 def _did_you_mean(error: dict, errors: list[dict]) -> str:
-    """For an unknown key, the closest required key missing beside it (``frequncy_hz`` -> ``frequency_hz``)."""
+    """For an unknown key, the closest key that the model there accepts (``frequncy_hz`` -> ``frequency_hz``),
+    a missing required key first."""
     import difflib
 
     loc = error["loc"]
@@ -282,6 +408,8 @@ def _did_you_mean(error: dict, errors: list[dict]) -> str:
         return ""
     missing = [e["loc"][-1] for e in errors if e.get("type") == "missing" and e["loc"][:-1] == loc[:-1]]
     close = difflib.get_close_matches(loc[-1], [m for m in missing if isinstance(m, str)], n=1, cutoff=0.6)
+    if not close:
+        close = difflib.get_close_matches(loc[-1].lower(), _model_keys(tuple(loc[:-1])), n=1, cutoff=0.6)
     return f"; did you mean {close[0]!r}?" if close else ""
 
 
@@ -325,6 +453,15 @@ def _message(error: dict) -> str:
         return f"text of {len(value):,} characters; at most {limit} are allowed"
     if kind in ("too_short", "too_long"):  # "List should have at least 1 item after validation, not 0"
         return f"{msg[0].lower()}{msg[1:]}".replace(" after validation, not ", " (got ") + ")"
+    if kind == "list_type" and isinstance(value, dict):
+        example = " (as in '- name: Line 3')" if key == "banks" else ""
+        return (f"input should be a valid list (got a mapping): start each entry with '- '{example}, even when "
+                "there is only one")
+    if (kind == "less_than_equal" and key in FRACTION_KEYS and isinstance(value, (int, float))
+            and 10 <= value <= 100):
+        what = {"efficiency": "an efficiency", "busbar_derating": "a derating"}.get(key, "a power factor")
+        return (f"input should be less than or equal to 1 (got {value:g}): {what} is a fraction of one; "
+                f"{value / 100:g}?")
     if kind in ("float_type", "int_type") and isinstance(value, str) and not _is_number(value):
         hint = number_hint(value, key)
         if hint:

@@ -312,9 +312,13 @@ def test_missing_banks():
     assert refusal({"rules": "nec"}) == "spec.yaml: banks: required key is missing"
 
 
-def test_several_problems_are_counted_in_one_line(make_bank, make_spec):
-    line = refusal(make_spec(make_bank(supply={"voltage_v": "480", "frequency_hz": "60"})))
-    assert line.endswith("(and 1 more problem)")
+def test_several_problems_are_listed_at_once(make_bank, make_spec):
+    with pytest.raises(SpecError) as info:
+        validate_spec(make_spec(make_bank(supply={"voltage_v": "480", "frequency_hz": "60"})), "spec.yaml")
+    lines = [e.line() for e in (info.value, *info.value.also)]
+    assert [line.split(": ")[1] for line in lines] == ["banks[0] (Line 3).supply.voltage_v",
+                                                       "banks[0] (Line 3).supply.frequency_hz"]
+    assert str(info.value).endswith("(and 1 more problem: see .also)")
 
 
 def test_text_fields_take_numbers_and_dates_as_written(make_spec):
