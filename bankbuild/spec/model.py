@@ -450,8 +450,11 @@ class Spec(_Strict):
     @field_validator("rules")
     @classmethod
     def _rule_basis(cls, value: str) -> str:
-        """A built-in rule basis by name, or a rule-basis file (YAML) beside the spec."""
-        if value in BUILTIN_RULES or value.lower().endswith((".yaml", ".yml")):
+        """A built-in rule basis by name (in any case: ``NEC`` is ``nec``), or a rule-basis file (YAML) beside the
+        spec."""
+        if value.strip().lower() in BUILTIN_RULES:
+            return value.strip().lower()
+        if value.lower().endswith((".yaml", ".yml")):
             return value
         raise ValueError(f"must be {', '.join(BUILTIN_RULES)} or a rule-basis file ending in .yaml "
                          f"(got {value[:40]!r})")
