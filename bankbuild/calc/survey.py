@@ -110,7 +110,8 @@ class ControllerRun:
     ``events`` lists every switching as ``(interval index, step index, closed)``: ``closed`` True when the step is
     switched in. ``operations`` counts the closings of each step (one closing and its opening make one operation
     of a contactor). ``lead_flags`` are the intervals where the connected kvar exceeds the room left by the
-    leading limit with every switched step open (the fixed part alone leads beyond the limit).
+    leading limit with every switched step open: the fixed part leads beyond the limit (an interval whose load
+    leads beyond it with nothing connected is not the bank's doing and is not flagged).
     """
 
     events: tuple[tuple[int, int, bool], ...]
@@ -239,7 +240,7 @@ def simulate_controller(times_s: Sequence[float], need: Sequence[float], room: S
             connected -= steps[best]
             events.append((i, best, False))
             d = want - connected
-        if connected > top + EPS:
-            lead_flags.append(i)
+        if connected > EPS and connected > top + EPS:
+            lead_flags.append(i)  # the fixed part leads beyond the limit (a load leading on its own is not flagged)
         low, high, floor = connected - b_out - EPS, connected + b_in + EPS, connected - EPS
     return ControllerRun(events=tuple(events), operations=tuple(operations), lead_flags=tuple(lead_flags))

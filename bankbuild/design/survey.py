@@ -310,6 +310,10 @@ def _charts(need, p, q, q_after) -> SurveyCharts:
 
 
 def _checks(figures: NeedFigures, sim: Simulation, proposed: ProposedBank, data, share: float) -> list[Check]:
+    if proposed.total_kvar <= 0:
+        return [Check(name="No bank needed", ok=True, level="info", rule="the total is sized on the share",
+                      detail=f"the need met in {share:.0%} of importing intervals is 0 kvar (peak {figures.max:,.1f} "
+                             "kvar): no bank proposed, no spec written")]
     checks = [
         Check(name="Target met in the chosen share of intervals", ok=sim.share_meeting_target >= share - 1e-9,
               rule=f"sized on the need met in {share:.0%} of importing intervals",

@@ -96,12 +96,13 @@ def test_controller_properties(profile, steps, fixed, lead, delay, share):
     for i, state in enumerate(states):
         connected = fixed + sum(q for q, on in zip(steps, state, strict=True) if on)
         net = kvar[i] - connected
-        if i not in flagged and kw[i] > 0 and net < 0:
-            # leading, but never beyond the limit unless the result flags the interval: PF ≥ the limit, i.e.
+        if i not in flagged and kw[i] > 0 and net < 0 and connected > 0:
+            # leading with the bank on, but never beyond the limit unless the result flags the interval: PF ≥ the
+            # limit, i.e.
             # the leading kvar is at most P·tan(arccos limit) (to the controller's 1e-9 kvar tolerance)
             assert -net <= kw[i] * math.tan(math.acos(lead)) + 1e-6
         if i in flagged:
-            assert not any(state) and fixed > room[i]  # only the fixed part is left on, and it alone leads
+            assert not any(state) and fixed > room[i]  # only the fixed part is left on, and it leads too far
     # switching counts equal the closings in the log, and each step's log alternates closed/open from open
     for k in range(len(steps)):
         mine = [(i, on) for i, j, on in run.events if j == k]

@@ -9,10 +9,12 @@ import numpy as np
 import pandas as pd
 import pytest
 import yaml
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from bankbuild.design.survey import largest_fixed_kvar, survey
 from bankbuild.errors import DataError, OptionError
-from bankbuild.spec.meter import read_meter_data
+from bankbuild.spec.meter import Cleaning, MeterData, read_meter_data
 from bankbuild.tables.load import load_catalogs
 
 UNITS = load_catalogs(None).capacitor_units
@@ -161,3 +163,38 @@ def test_no_importing_interval_is_a_data_error(tmp_path):
     times = pd.date_range("2026-01-01", periods=4, freq="15min")
     with pytest.raises(DataError, match="no interval draws active power"):
         run(tmp_path, frame(times, np.full(4, -5.0), np.full(4, 3.0)))
+
+
+def test_nothing_to_correct_proposes_no_bank(tmp_path):
+    times = pd.date_range("2026-01-01", periods=96, freq="15min")
+    result = run(tmp_path, frame(times, np.full(96, 100.0), np.full(96, 10.0)))  # PF 0.995 throughout
+    assert result.proposed.total_kvar == 0 and result.proposed.steps == [] and result.spec == {}
+    assert [c.name for c in result.checks] == ["No bank needed"]
+
+
+@settings(max_examples=40, deadline=None)
+@given(kw=st.lists(st.floats(0.0, 800.0, allow_subnormal=False), min_size=8, max_size=200),
+       pf=st.floats(0.5, 1.0), swing=st.floats(-30.0, 120.0), lead=st.sampled_from([1.0, 0.98, 0.9]),
+       share=st.sampled_from([0.0, 1 / 3]))
+def test_simulated_pf_never_leads_beyond_the_limit_unless_flagged(kw, pf, swing, lead, share):
+    # A random profile straight into the survey (no file): the PF after the bank, from the results' own
+    # monthly energies and from the simulation log, never leads beyond the limit in an interval not flagged.
+    n = len(kw)
+    p = np.array(kw)
+    q = p * math.tan(math.acos(pf)) + swing * np.sin(np.arange(n))
+    t = 1.7e9 + 900.0 * np.arange(n)
+    cleaning = Cleaning(rows_read=n, rows_used=n, missing_rows=0, impossible_rows=0, duplicate_rows=0,
+                        conflicting_rows=0, out_of_order_rows=0, gaps=0, gap_time_s=0.0, irregular_intervals=0,
+                        exporting_intervals=0, offset_changes=0, notes=())
+    data = MeterData(path="(random)", time_s=t, local_s=t, active_kw=p, reactive_kvar=q, rows=np.arange(n) + 2,
+                     interval_s=900.0, columns=(), pair=("kw", "kvar"), kvar_sign="lagging-positive",
+                     has_offsets=False, cleaning=cleaning)
+    if not (p > 0).any():
+        return
+    result = survey(data, voltage_v=480.0, pf_target=0.95, units=UNITS, pf_lead_limit=lead, switch_in_share=share)
+    sim = result.simulation
+    # a fixed part within the light-load kvar never leads: nothing is ever flagged
+    assert result.proposed.fixed_kvar <= result.light_load_kvar + 1e-9
+    assert sim.leading_beyond_limit_intervals == 0
+    assert sum(sim.operations) == sum(d.operations for d in sim.steps)
+    assert not any(c.name == "No leading power factor beyond the limit" and not c.ok for c in result.checks)
