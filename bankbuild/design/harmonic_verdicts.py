@@ -192,18 +192,22 @@ def study_checks(study_result: HarmonicStudy, result, p: float) -> list[Check]:
         name="Capacitor duty with harmonics", ok=w.ok, rule=w.rule,
         detail=f"worst combination {w.kvar:.0f} kvar ({w.corner}): " + ", ".join(parts)
                + f"; units rated {result.capacitor_voltage_v:g} V"))
-    over = [s for s in study_result.steps if not s.ok]
-    shown = over or [max(study_result.steps, key=lambda s: s.current_rms_a / max(s.fundamental_a, EPS))]
-    texts = []
-    for s in shown[:4]:
-        text = (f"step {s.index}: {s.current_rms_a:.1f} A rms ({s.fundamental_a:.1f} A fundamental) against device "
-                f"{s.device_rating_a:g} A, conductor {s.conductor_ampacity_a:g} A")
-        if s.reactor_rating_a is not None:
-            text += f", reactor {s.reactor_rating_a:g} A thermal"
-            if s.current_rms_a > s.reactor_rating_a + EPS:
-                text += (f" (picked for the assembly's assumed supply distortion at nominal values; this study "
-                         f"needs ≥ {s.current_rms_a:.0f} A)")
-        texts.append(text)
+    steps = study_result.steps
+    over = [s for s in steps if not s.ok]
+    ratio = max(s.current_rms_a / s.fundamental_a for s in steps if s.fundamental_a > 0)
+    texts = [f"each step carries up to {ratio:.2f} × its fundamental current"]
+    for part, rating in (("device", lambda s: s.device_rating_a), ("conductor", lambda s: s.conductor_ampacity_a),
+                         ("reactor", lambda s: s.reactor_rating_a)):
+        bad = [s for s in steps if rating(s) is not None and s.current_rms_a > rating(s) + EPS]
+        if bad:
+            shown = ", ".join(f"step {s.index} {s.current_rms_a:.1f} A > {rating(s):g} A" for s in bad[:3])
+            more = f" and {len(bad) - 3} more" if len(bad) > 3 else ""
+            texts.append(f"{part} rating exceeded: {shown}{more}")
+            if part == "reactor":
+                texts.append("the reactors were picked for the assembly's assumed supply distortion at nominal "
+                             "values; order them for the currents above")
+        elif any(rating(s) is not None for s in steps):
+            texts.append(f"every step's {part} carries it")
     main_ok = (study_result.main_current_rms_a <= study_result.main_device_rating_a + EPS
                and study_result.main_current_rms_a <= study_result.main_conductor_ampacity_a + EPS)
     texts.append(f"main: {study_result.main_current_rms_a:.1f} A rms against device "
@@ -212,9 +216,9 @@ def study_checks(study_result: HarmonicStudy, result, p: float) -> list[Check]:
     if p:
         rule += " and the reactor's thermal current (its linearity current is not in the reactor table: ask the " \
                 "maker for it above the peak of this current)"
-    corner = study_result.current_corner
+    where = f"worst combination, {study_result.current_corner} corner of the tolerances" if p else "worst combination"
     checks.append(Check(name="Currents with harmonics", ok=not over and main_ok, rule=rule,
-                        detail=f"worst combination, {corner} corner of the tolerances: " + "; ".join(texts)))
+                        detail=f"{where}: " + "; ".join(texts)))
     rec = study_result.recommendation
     if rec.kind == "margin":
         ok = rec.lowest_harmonic is None or rec.tuning_order_high <= (1.0 - BAND) * rec.lowest_harmonic + EPS

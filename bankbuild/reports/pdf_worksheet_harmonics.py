@@ -155,7 +155,8 @@ def harmonic_sections(bank: BankResult, width: float, number: int) -> list:
     story += heading("Per order, the combination with the highest distortion", "h2", 120) + list(
         orders_table(bank, width))
     story += heading("Capacitor duty with harmonics", "h2", 120) + list(duty_table(bank, width))
-    story += heading(f"Currents with harmonics (worst combination, {h.current_corner} corner)", "h2", 120) + [
+    corner = f", {h.current_corner} corner" if bank.detuning_pct else ""
+    story += heading(f"Currents with harmonics (worst combination{corner})", "h2", 120) + [
         currents_table(bank, width)]
     story += heading("Recommendation", "h2", 80) + recommendation_block(bank, width)
     story.append(P("The study rests on the stated spectrum and source; a measured spectrum and the utility's "

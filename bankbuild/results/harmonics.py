@@ -19,12 +19,12 @@ class HarmonicCombination(_Frozen):
     peak_impedance_ohm: float | None  # |Z_bus| at resonance_order, per phase
     resonance_order_range: list[float] | None  # [lowest, highest] over the reactor and capacitor tolerances
     series_resonance_order: float | None  # of the detuned branches, 1/√p
-    bus_voltage_pct: dict[str, float]
+    bus_voltage_pct: dict[str, float]  # the worst tolerance corner per order
     bus_voltage_without_bank_pct: dict[str, float]
     amplification: dict[str, float]  # |Z_bus| / |Z_bus without the bank| per order
     bus_thd_pct: float
     bus_thd_without_bank_pct: float
-    capacitor_voltage_rms_pu: float
+    capacitor_voltage_rms_pu: float  # the duty at the nominal values; ``worst`` takes the tolerance corners in
     capacitor_voltage_peak_pu: float
     capacitor_current_rms_pu: float
     capacitor_kvar_pu: float

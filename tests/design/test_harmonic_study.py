@@ -127,6 +127,11 @@ def test_plain_bank_near_the_13th_fails_and_gets_a_remedy(catalogs):
     assert rec.kind == "detune" and rec.tuning_pct in (5.67, 7.0, 14.0)
     assert rec.unit_voltage_v >= 480 / (1 - rec.tuning_pct / 100)
     assert checks["Harmonic remedy"].detail == rec.text
+    # at the 13th resonance the steps carry several times their fundamental: past their fuses
+    currents = checks["Currents with harmonics"]
+    assert not currents.ok and "device rating exceeded" in currents.detail
+    step = result.harmonics.steps[0]
+    assert step.current_rms_a > step.device_rating_a > step.fundamental_a
 
 
 def test_the_remedy_passes_when_built(catalogs):
