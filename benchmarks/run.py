@@ -131,9 +131,9 @@ def _demo_banks() -> int:
 
 
 def _document_names() -> list[str]:
-    from bankbuild.reports.writer import _writers
+    from bankbuild.reports.writer import ONE_LINE_SVG, _writers
 
-    return [name for name, _ in _writers()]
+    return [name for name, _ in _writers()] + [ONE_LINE_SVG.format(n=n) for n in range(1, _demo_banks() + 1)]
 
 
 def bench_demo(runs: int, work: Path) -> Row:

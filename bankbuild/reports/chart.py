@@ -21,7 +21,7 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from .figure import (
+from bankbuild.reports.figure import (
     GREY,
     INK,
     LIGHT,

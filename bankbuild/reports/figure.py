@@ -18,6 +18,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from functools import lru_cache
 from xml.sax.saxutils import escape, quoteattr
 
 Colour = tuple[float, float, float]
@@ -59,12 +60,14 @@ def text_width(text: str, size: float, bold: bool = False) -> float:
     >>> round(text_width("100 A", 10), 1)
     29.1
     """
+    return _em_width(text, bold) * size
+
+
+@lru_cache(maxsize=1 << 14)
+def _em_width(text: str, bold: bool) -> float:
+    """Width of ``text`` at 1 pt [pt]."""
     table = _ADVANCE[1 if bold else 0]
-    total = 0
-    for ch in text:
-        code = ord(ch)
-        total += table[code - 32] if 32 <= code <= 126 else 640
-    return total * size / 1000
+    return sum(table[code - 32] if 32 <= code <= 126 else 640 for code in map(ord, text)) / 1000
 
 
 @dataclass(frozen=True)
@@ -203,6 +206,7 @@ def _n(value: float) -> str:
     return "0" if text in ("-0", "") else text
 
 
+@lru_cache(maxsize=64)
 def _rgb(colour: Colour | None) -> str:
     if colour is None:
         return "none"
@@ -220,6 +224,8 @@ def _stroke(width: float, dash: str, colour: Colour) -> str:
 
 def _svg_text(value: str) -> str:
     """Text for SVG character data: XML-escaped, with characters XML 1.0 forbids dropped."""
+    if value.isprintable():
+        return escape(value)
     clean = "".join(ch for ch in value if ch in "\t\n\r" or (ord(ch) >= 0x20 and not 0xD800 <= ord(ch) <= 0xDFFF
                                                               and ch not in "\ufffe\uffff"))
     return escape(clean.replace("\t", " ").replace("\n", " ").replace("\r", " "))
@@ -289,13 +295,24 @@ def to_drawing(figure: Figure):
     Text is set in the documents' Vera faces (:mod:`.pdf_common`), characters they lack replaced the same way
     as in the tables.
     """
+    from reportlab import rl_config
+
+    # Every value set here has the type reportlab wants: skip its per-attribute checks (half the drawing time).
+    checking, rl_config.shapeChecking = rl_config.shapeChecking, 0
+    try:
+        return _build_drawing(figure)
+    finally:
+        rl_config.shapeChecking = checking
+
+
+def _build_drawing(figure: Figure):
     from reportlab.graphics.shapes import Circle as RCircle
     from reportlab.graphics.shapes import Drawing, Group, Polygon, PolyLine, String
     from reportlab.graphics.shapes import Line as RLine
     from reportlab.graphics.shapes import Rect as RRect
     from reportlab.lib.colors import Color
 
-    from .pdf_common import FONT, FONT_BOLD, FONT_BOLD_ITALIC, FONT_ITALIC, plain_text, register_fonts
+    from bankbuild.reports.pdf_common import FONT, FONT_BOLD, FONT_BOLD_ITALIC, FONT_ITALIC, plain_text, register_fonts
 
     register_fonts()
     colours: dict[Colour, object] = {}
@@ -310,7 +327,8 @@ def to_drawing(figure: Figure):
     def dash(name: str):
         return list(DASHES.get(name, ())) or None
 
-    drawing = Drawing(figure.width, figure.height, initialFontName=FONT)
+    drawing = Drawing(figure.width, figure.height)
+    drawing.initialFontName, drawing.initialFontSize = FONT, 7.0  # else the renderer sets a base-14 font first
     for item in figure.items:
         if isinstance(item, Line):
             drawing.add(RLine(item.x1, item.y1, item.x2, item.y2, strokeColor=colour(item.colour),

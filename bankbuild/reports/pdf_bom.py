@@ -145,8 +145,11 @@ def items_table(lines: list[BomLine], width: float):
 
 def bank_section(index: int, total: int, bank: BankResult, width: float) -> list:
     """Heading, summary and line items of one bank."""
-    story = [section_break(160), P(f"Bank {index} of {total}: {bank.name}", "h1"), bank_summary(bank, width),
-             gap(6), P("Line items", "h2")]
+    from bankbuild.reports.pdf_pictures import oneline_block
+
+    diagram, first_height = oneline_block(bank, width)
+    story = [section_break(first_height + 40), P(f"Bank {index} of {total}: {bank.name}", "h1"), *diagram,
+             section_break(120), bank_summary(bank, width), gap(6), P("Line items", "h2")]
     if bank.bom:
         story.append(items_table(list(bank.bom), width))
     else:

@@ -35,6 +35,7 @@ from bankbuild.reports.pdf_common import (
     num,
     para_text,
 )
+from bankbuild.reports.pdf_pictures import oneline_block
 from bankbuild.reports.pdf_worksheet_assembly import assembly_sections
 from bankbuild.reports.pdf_worksheet_harmonics import harmonic_sections
 from bankbuild.reports.pdf_worksheet_system import system_sections
@@ -239,8 +240,10 @@ def checks_table(bank: BankResult, width: float):
 
 def bank_section(index: int, total: int, bank: BankResult, result: ProjectResult, width: float) -> list:
     """All of one bank's worksheet."""
-    story = heading(f"Bank {index} of {total}: {bank.name}", "h1", 220)
-    story += [P("1. Inputs", "h2"), inputs_table(bank, result.provenance, width)]
+    diagram, first_height = oneline_block(bank, width)
+    story = heading(f"Bank {index} of {total}: {bank.name}", "h1", first_height + 40)
+    story += diagram
+    story += heading("1. Inputs", "h2") + [inputs_table(bank, result.provenance, width)]
     if bank.assumptions:
         story += [P("Assumptions the figures rest on", "h2"), assumptions_table(bank, width)]
     story += heading("2. Capacitor units and currents") + [units_table(bank, width), P(units_note(bank), "note")]

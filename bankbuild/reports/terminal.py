@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from bankbuild.results.sizing import BankResult, ProjectResult
 from bankbuild.results.text import step_span
 
@@ -194,5 +196,13 @@ def _basis_line(prov) -> str:
 
 def closing_lines(written: list[str] | None, cautions: list[str]) -> list[str]:
     """The end of a terminal summary: the files written, then the cautions picked for it."""
-    lines = ["written:", *(f"  {path}" for path in written), ""] if written else []
+    if not written:
+        return ["CAUTION: " + caution for caution in cautions]
+    diagrams = [path for path in written if Path(path).name.startswith("one-line-") and path.endswith(".svg")]
+    drawn = set(diagrams)
+    shown = [path for path in written if path not in drawn] if len(diagrams) > 6 else list(written)
+    lines = ["written:", *(f"  {path}" for path in shown)]
+    if len(diagrams) > 6:  # a plant of many banks: one line for its diagrams
+        lines.append(f"  {diagrams[0]} … {Path(diagrams[-1]).name} ({len(diagrams)} one-line diagrams)")
+    lines.append("")
     return lines + ["CAUTION: " + caution for caution in cautions]

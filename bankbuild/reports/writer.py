@@ -10,20 +10,39 @@ from pathlib import Path
 from bankbuild.errors import OptionError
 from bankbuild.results.sizing import ProjectResult
 
+ONE_LINE_SVG = "one-line-{n}.svg"
+"""File name of bank n's one-line diagram (n from 1, in the order of the spec)."""
 
-def _writers() -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
-    """(file name, renderer) pairs: each renderer returns the whole file as bytes."""
+
+def _writers(result: ProjectResult | None = None) -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
+    """(file name, renderer) pairs: each renderer returns the whole file as bytes.
+
+    The documents of every run, then, when ``result`` is given, one SVG one-line diagram per bank.
+    """
     from bankbuild.reports.jsonout import project_json
     from bankbuild.reports.pdf_bom import bom_pdf
     from bankbuild.reports.pdf_worksheet import worksheet_pdf
     from bankbuild.reports.tables import bom_csv, bom_json, bom_xlsx
 
-    return [("results.json", lambda r: project_json(r).encode("utf-8")),
-            ("bill-of-materials.pdf", bom_pdf),
-            ("bill-of-materials.csv", bom_csv),
-            ("bill-of-materials.xlsx", bom_xlsx),
-            ("bill-of-materials.json", bom_json),
-            ("protection-worksheet.pdf", worksheet_pdf)]
+    writers = [("results.json", lambda r: project_json(r).encode("utf-8")),
+               ("bill-of-materials.pdf", bom_pdf),
+               ("bill-of-materials.csv", bom_csv),
+               ("bill-of-materials.xlsx", bom_xlsx),
+               ("bill-of-materials.json", bom_json),
+               ("protection-worksheet.pdf", worksheet_pdf)]
+    if result is not None:
+        writers += [(ONE_LINE_SVG.format(n=n), _svg_writer(n - 1)) for n in range(1, len(result.banks) + 1)]
+    return writers
+
+
+def _svg_writer(index: int) -> Callable[[ProjectResult], bytes]:
+    """The renderer of one bank's one-line diagram (SVG, UTF-8)."""
+    def render(result: ProjectResult) -> bytes:
+        from bankbuild.reports.oneline import oneline_svg
+
+        return oneline_svg(result.banks[index]).encode("utf-8")
+
+    return render
 
 
 def write_documents(result: ProjectResult, out_dir: Path, on_document=None) -> list[Path]:
@@ -35,7 +54,7 @@ def write_documents(result: ProjectResult, out_dir: Path, on_document=None) -> l
     """
     from bankbuild.reports.render import render_documents
 
-    return write_rendered(render_documents(result, _writers(), on_document), out_dir)
+    return write_rendered(render_documents(result, _writers(result), on_document), out_dir)
 
 
 def write_rendered(rendered: list[tuple[str, bytes]], out_dir: Path) -> list[Path]:

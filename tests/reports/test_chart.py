@@ -8,7 +8,7 @@ import subprocess
 import sys
 import xml.etree.ElementTree as ET
 
-from hypothesis import given
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from pdf_text import pages_text
 
@@ -86,6 +86,8 @@ def test_text_width_matches_the_pdf_font():
         assert abs(text_width(text, 7, bold=True) / stringWidth(text, FONT_BOLD, 7) - 1) < 1e-3
 
 
+@settings(max_examples=300)
+@example(0.0, 250001.0)  # once missed its last tick
 @given(st.floats(-1e6, 1e6), st.floats(0, 1e6))
 def test_ticks_cover_the_range_in_even_steps(low, span):
     ticks = nice_ticks(low, low + span)
