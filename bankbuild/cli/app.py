@@ -206,8 +206,8 @@ def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing b
            frequency_hz: Annotated[float | None, _number_option(
                "--frequency-hz", help="New supply frequency [Hz]; default: each bank's own.")] = None,
            out: Annotated[Path | None, typer.Option(
-               "--out", help="Folder for rerate.json, rerate.txt and rerate-bom-difference.csv (created if "
-                             "missing); default bankbuild-out, or none with --json.")] = None,
+               "--out", help="Folder for rerate.pdf, rerate.json, rerate.txt and rerate-bom-difference.csv "
+                             "(created if missing); default bankbuild-out, or none with --json.")] = None,
            json: JsonOpt = False, catalogs: CatOpt = None, strict: StrictOpt = False,
            transformer_kva: Annotated[float | None, _number_option(
                "--transformer-kva", help="Transformer at the new supply [kVA]; default: the spec's.")] = None,

@@ -15,6 +15,7 @@ def run_rerate(spec_path: Path, voltage_v: float, frequency_hz: float | None, ou
     """Re-rate every bank of the spec; write the documents (into ``out``, or ``bankbuild-out`` unless ``--json``
     is given without ``--out``, as ``size`` does); return the result and the text to print."""
     from bankbuild.api import rerate
+    from bankbuild.reports.pdf_rerate import rerate_pdf
     from bankbuild.reports.rerate_text import bom_difference_csv, rerate_json, rerate_text
     from bankbuild.reports.writer import write_rendered
 
@@ -26,6 +27,7 @@ def run_rerate(spec_path: Path, voltage_v: float, frequency_hz: float | None, ou
     if out is not None:
         rendered = [("rerate.json", as_text.encode("utf-8")),
                     ("rerate-bom-difference.csv", bom_difference_csv(result).encode("utf-8")),
-                    ("rerate.txt", (rerate_text(result) + "\n").encode("utf-8"))]
+                    ("rerate.txt", (rerate_text(result) + "\n").encode("utf-8")),
+                    ("rerate.pdf", rerate_pdf(result))]
         written = write_rendered(rendered, out)
     return result, (as_text if as_json else rerate_text(result, [str(p) for p in written]))

@@ -70,7 +70,8 @@ def plan_result(bank: Bank, result: BankResult, units) -> StepPlanResult:
         rule = plan.rule if plan else "no units at the chosen voltage: the need split by the weights"
         return StepPlanResult(form="plan", pattern=":".join(map(str, weights)), rule=rule, step_kvar=steps,
                               resolution_kvar=min(steps), reachable_kvar=list(reach.values_kvar),
-                              reachable_count=reach.count, largest_gap_kvar=reach.largest_gap_kvar, note=note)
+                              reachable_count=reach.count, largest_gap_kvar=reach.largest_gap_kvar,
+                              largest_gap_from_kvar=reach.gap_from_kvar, note=note)
     if isinstance(bank.steps, list):
         form, rule = "list", ("steps as listed in the spec (kvar at the supply), each built from the fewest units, "
                               "then the least overshoot")
@@ -81,7 +82,8 @@ def plan_result(bank: Bank, result: BankResult, units) -> StepPlanResult:
                                "least overshoot")
     return StepPlanResult(form=form, pattern="", rule=rule, step_kvar=steps, resolution_kvar=min(steps),
                           reachable_kvar=list(reach.values_kvar), reachable_count=reach.count,
-                          largest_gap_kvar=reach.largest_gap_kvar, note=note)
+                          largest_gap_kvar=reach.largest_gap_kvar, largest_gap_from_kvar=reach.gap_from_kvar,
+                          note=note)
 
 
 def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankResult:

@@ -128,7 +128,11 @@ def rerate_bank(bank: Bank, index: int, spec: Spec, catalogs, voltage_v: float, 
         line_current_a=at_new.line_current_a, original_tuning_pct=bank.detuning_pct, tuning_pct=moved.detuning_pct,
         tuning_frequency_hz=tuning.tuning_frequency_hz if tuning else None, steps=steps,
         items=item_fits(original, at_new, resized, getattr(catalogs, "contactors", ())), checks=at_new.checks,
-        at_new_supply=at_new, resized=resized, bom_basis=basis, bom_difference=diff)
+        at_new_supply=at_new, resized=resized, bom_basis=basis, bom_difference=diff,
+        original_capacitor_voltage_seen_v=original.system.voltage.capacitor_voltage_v,
+        original_light_load_voltage_v=original.system.voltage.light_load_voltage_v,
+        light_load_voltage_v=stress.light_load_voltage_v,
+        capacitor_voltage_limit_v=stress.continuous_limit_pu * stress.rated_voltage_v)
 
 
 # -- what still fits ------------------------------------------------------------------------------------------

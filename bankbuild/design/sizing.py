@@ -13,6 +13,7 @@ from bankbuild.design.assembly import step_targets as planned_targets
 from bankbuild.design.bom import project_bom
 from bankbuild.design.checks import detuned_resonance_order, percent_as_fraction_checks, system_figures
 from bankbuild.design.existing import resolve_units
+from bankbuild.design.figures import discharge_curve, power_triangle
 from bankbuild.design.harmonics import study as harmonic_study
 from bankbuild.design.protection import CircuitContext, size_circuit
 from bankbuild.design.provenance import provenance
@@ -134,6 +135,9 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
     result = _bank_result(bank, rules, rating, need, sized, main, discharge, resonance, rise, checks, system,
                           assumptions(bank, ctx, basis))
     assembled = assemble_bank(result, bank, catalogs, ctx, list(rating.units))
+    assembled = assembled.model_copy(update={
+        "discharge_curve": discharge_curve(assembled.discharge, assembled.reconnection),
+        "power_triangle": power_triangle(assembled.need, assembled.delivered_kvar, bank.supply.voltage_v)})
     if bank.harmonics is None:
         return assembled
     harmonics, harmonic_checks = harmonic_study(bank, assembled, rules, list(rating.available_v))

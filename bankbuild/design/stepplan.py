@@ -118,11 +118,13 @@ def propose_steps(required_kvar: float, weights: Sequence[int], unit_kvar: Seque
 
 @dataclass(frozen=True)
 class Reach:
-    """Every sum of steps: the values (when not too many), their count and the largest gap between two."""
+    """Every sum of steps: the values (when not too many), their count and the largest gap between two, with
+    the value it starts from (the lowest, where several are as wide)."""
 
     values_kvar: tuple[float, ...]
     count: int
     largest_gap_kvar: float
+    gap_from_kvar: float = 0.0
 
 
 def reachable(step_kvar: Sequence[float], factor: float = 1.0, max_listed: int = MAX_LISTED) -> Reach:
@@ -153,8 +155,8 @@ def reachable(step_kvar: Sequence[float], factor: float = 1.0, max_listed: int =
     >>> r = reachable([25, 25, 50, 50])
     >>> r.values_kvar, r.largest_gap_kvar
     ((0.0, 25.0, 50.0, 75.0, 100.0, 125.0, 150.0), 25.0)
-    >>> reachable([10, 40]).largest_gap_kvar
-    30.0
+    >>> reachable([10, 40]).largest_gap_kvar, reachable([10, 40]).gap_from_kvar
+    (30.0, 10.0)
     """
     ints = [max(1, round(float(q) * 1000)) for q in step_kvar]
     if not ints:
@@ -166,8 +168,11 @@ def reachable(step_kvar: Sequence[float], factor: float = 1.0, max_listed: int =
     text = bin(bits)[:1:-1]  # index k is bit k
     count = text.count("1")
     unit = g / 1000 * factor
-    gap_bits = max((len(m) for m in re.findall("0+", text)), default=0) + 1
+    runs = [(len(m.group()), m.start()) for m in re.finditer("0+", text)]
+    longest = max(runs, key=lambda r: (r[0], -r[1]), default=(0, 1))  # the lowest of the widest
+    gap_bits = longest[0] + 1
     values: tuple[float, ...] = ()
     if count <= max_listed:
         values = tuple(k * unit for k, ch in enumerate(text) if ch == "1")
-    return Reach(values_kvar=values, count=count, largest_gap_kvar=gap_bits * unit)
+    return Reach(values_kvar=values, count=count, largest_gap_kvar=gap_bits * unit,
+                 gap_from_kvar=(longest[1] - 1) * unit)

@@ -72,7 +72,8 @@ class Axis:
 
 @dataclass(frozen=True)
 class Series:
-    """Data drawn one way: ``draw`` is ``line`` (straight segments), ``step`` (each y held until the next x),
+    """Data drawn one way: ``draw`` is ``line`` (straight segments), ``step`` (each y held until the next x, the
+    last for one spacing more),
     ``bars`` (a bar at each x, grouped beside the other bar series) or ``markers`` (markers only).
 
     ``style`` is a line style of :data:`LINE_STYLES`, ``marker`` one of :data:`MARKERS`.
@@ -155,6 +156,7 @@ def tick_text(value: float, step: float) -> str:
 
 def _extent(chart: Chart) -> tuple[list[float], list[float]]:
     xs = [x for s in chart.series for x, _ in s.points]
+    xs += [_step_end(s) for s in chart.series if s.draw == "step" and len(s.points) > 1]
     ys = [y for s in chart.series for _, y in s.points]
     if any(s.draw == "bars" for s in chart.series):
         ys.append(0.0)
@@ -167,6 +169,12 @@ def _extent(chart: Chart) -> tuple[list[float], list[float]]:
             xs.append(mark.x)
     finite = [v for v in xs if math.isfinite(v)], [v for v in ys if math.isfinite(v)]
     return finite[0] or [0.0, 1.0], finite[1] or [0.0, 1.0]
+
+
+def _step_end(series: Series) -> float:
+    """Where a step series' last level ends: one spacing past its last point."""
+    (x1, _), (x2, _) = series.points[-2], series.points[-1]
+    return x2 + (x2 - x1)
 
 
 def _range(axis: Axis, data: Sequence[float], pad_bars: float = 0.0) -> tuple[float, float, tuple[float, ...]]:
@@ -300,6 +308,8 @@ def chart_figure(chart: Chart) -> Figure:
                 path.append((px(x), py(y)))
                 if i + 1 < len(points):
                     path.append((px(points[i + 1][0]), py(y)))
+                elif len(points) > 1:  # the last level is held for one more spacing
+                    path.append((px(_step_end(s)), py(y)))
         elif s.draw == "line":
             path = [(px(x), py(y)) for x, y in points]
         if len(path) > 1:

@@ -76,8 +76,8 @@ def step_labels(step: Step) -> dict[str, list[str]]:
     reactor = step.reactor
     if reactor is not None:
         name = reactor.reactor.designation if reactor.reactor is not None else "reactor made to order"
-        labels["reactor"] = [name, f"L {gnum(reactor.inductance_mh)} mH, p {gnum(reactor.tuning_pct)}%",
-                             f"{gnum(reactor.current_rating_a)} A"]
+        labels["reactor"] = [name, f"L {num(reactor.inductance_mh, 3)} mH, p {gnum(reactor.tuning_pct)}%",
+                             num(reactor.current_rating_a, 1, "A")]
     labels["units"] = [f"{u.qty} × {u.id}" for u in step.units] or ["no units"]
     labels["kvar"] = [f"{num(step.kvar, 1)} kvar"]
     return labels

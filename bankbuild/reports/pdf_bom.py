@@ -149,7 +149,7 @@ def bank_section(index: int, total: int, bank: BankResult, width: float) -> list
 
     diagram, first_height = oneline_block(bank, width)
     story = [section_break(first_height + 40), P(f"Bank {index} of {total}: {bank.name}", "h1"), *diagram,
-             section_break(120), bank_summary(bank, width), gap(6), P("Line items", "h2")]
+             section_break(190), bank_summary(bank, width), gap(6), P("Line items", "h2")]
     if bank.bom:
         story.append(items_table(list(bank.bom), width))
     else:

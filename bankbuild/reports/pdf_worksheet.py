@@ -35,7 +35,7 @@ from bankbuild.reports.pdf_common import (
     num,
     para_text,
 )
-from bankbuild.reports.pdf_pictures import oneline_block
+from bankbuild.reports.pdf_pictures import oneline_block, staircase_block, triangle_block
 from bankbuild.reports.pdf_worksheet_assembly import assembly_sections
 from bankbuild.reports.pdf_worksheet_harmonics import harmonic_sections
 from bankbuild.reports.pdf_worksheet_system import system_sections
@@ -246,7 +246,9 @@ def bank_section(index: int, total: int, bank: BankResult, result: ProjectResult
     story += heading("1. Inputs", "h2") + [inputs_table(bank, result.provenance, width)]
     if bank.assumptions:
         story += [P("Assumptions the figures rest on", "h2"), assumptions_table(bank, width)]
+    story += triangle_block(bank, width)
     story += heading("2. Capacitor units and currents") + [units_table(bank, width), P(units_note(bank), "note")]
+    story += staircase_block(bank, width)
     detuned = detuning_table(bank, width)
     if detuned is not None:
         story += heading("3. Detuning reactors") + [detuned,

@@ -12,6 +12,7 @@ import re
 from bankbuild.reports.pdf_blocks import C, grid, heading, key_values, verdict
 from bankbuild.reports.pdf_common import P, gnum, num
 from bankbuild.reports.pdf_figures import model_pairs
+from bankbuild.reports.pdf_pictures import discharge_block
 from bankbuild.results.sizing import BankResult
 from bankbuild.results.text import step_span
 
@@ -179,6 +180,7 @@ def system_sections(bank: BankResult, width: float, number: int) -> list:
     story.append(P("V(t) = V₀·e^(−t/RC): a resistor across each leg brings the leg from the peak of its rated "
                    "voltage to the limit within the time. Never rely on a manual discharge; wait the full time, "
                    "then prove zero voltage before touching.", "note"))
+    story += discharge_block(bank, width)
     story += heading(f"{number + 1}. System checks with the supply transformer", "h2", 120)
     if not bank.transformer_kva:
         story.append(P("No transformer was given in the spec: resonance, voltage rise and inrush against the "

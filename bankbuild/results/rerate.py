@@ -75,6 +75,10 @@ class RerateBank(Frozen):
     resized: BankResult  # units suited to the new supply, restoring the original kvar per step
     bom_basis: str  # "bill of materials" or "units and protection"
     bom_difference: list[BomChange]
+    original_capacitor_voltage_seen_v: float | None = None  # at the original supply, with the detuning rise
+    original_light_load_voltage_v: float | None = None  # … and at light load with every step on
+    light_load_voltage_v: float | None = None  # at the new supply, light load, every step on
+    capacitor_voltage_limit_v: float | None = None  # the rule basis's continuous limit on the units' voltage
 
 
 class RerateResult(Frozen):

@@ -73,6 +73,45 @@ class Detuning(Frozen):
     reactor_current_a: float
 
 
+class CurvePoint(Frozen):
+    """One sample of a curve in time."""
+
+    time_s: float
+    voltage_v: float
+
+
+class DischargeCurve(Frozen):
+    """The leg voltage of the largest step after switch-off, sampled for a chart (see design.figures)."""
+
+    start_voltage_v: float  # the peak of the rated leg voltage
+    limit_v: float  # the rule's limit …
+    time_s: float  # … and its time
+    end_time_s: float
+    rule_resistance_ohm: float  # the largest resistance per leg that meets the rule
+    rule_curve: list[CurvePoint]  # through it: reaches the limit at the rule's time
+    builtin_resistance_ohm: float | None  # the units' own resistors, from their rated discharge time
+    builtin_curve: list[CurvePoint]  # empty when the table gives no discharge time
+    reconnection_delay_s: float | None  # automatic steps only
+
+
+class PowerTriangle(Frozen):
+    """The load's power triangle before and after the bank, with the line currents (see design.figures)."""
+
+    active_kw: float
+    kvar_before: float
+    kvar_after: float  # negative: leading
+    bank_kvar: float  # delivered at the supply
+    kva_before: float
+    kva_after: float
+    pf_before: float
+    pf_after: float
+    angle_before_deg: float
+    angle_after_deg: float
+    current_before_a: float
+    current_after_a: float
+    leading_after: bool
+
+
 class StepPlanResult(Frozen):
     """How the step sizes were chosen, and every kvar value the controller can reach with them."""
 
@@ -84,6 +123,7 @@ class StepPlanResult(Frozen):
     reachable_kvar: list[float]  # every sum of steps, 0 included (empty when there are too many to list)
     reachable_count: int
     largest_gap_kvar: float  # the widest jump between two reachable values
+    largest_gap_from_kvar: float | None = None  # the reachable value it starts from (the lowest such gap)
     note: str = ""
 
 
@@ -401,6 +441,8 @@ class BankResult(Frozen):
     control: ControlResult | None = None
     enclosure: EnclosureResult | None = None
     assumptions: list[str] = []  # every assumption the figures rest on, stated on the worksheet
+    discharge_curve: DischargeCurve | None = None  # sampled for the documents' chart
+    power_triangle: PowerTriangle | None = None  # None when the need is given as kvar alone
     harmonics: HarmonicStudy | None = None  # only when the spec gives the bank a harmonics block
 
     @model_serializer(mode="wrap")

@@ -115,7 +115,7 @@ def test_rerate_writes_its_documents_by_default(capsys, tmp_path, monkeypatch):
     code, out, _ = cli(capsys, "rerate", SPECS / "line3_300kvar.yaml", "--voltage-v", 415)
     assert code == 0
     assert sorted(p.name for p in (tmp_path / "bankbuild-out").iterdir()) == [
-        "rerate-bom-difference.csv", "rerate.json", "rerate.txt"]
+        "rerate-bom-difference.csv", "rerate.json", "rerate.pdf", "rerate.txt"]
     assert out.rstrip().endswith("assumed: each bank keeps its own supply frequency (no --frequency-hz given)")
     (tmp_path / "bankbuild-out" / "rerate.json").unlink()
     assert cli(capsys, "rerate", SPECS / "line3_300kvar.yaml", "--voltage-v", 415, "--json")[0] == 0

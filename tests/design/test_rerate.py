@@ -333,7 +333,8 @@ def test_cli_text_and_files(capsys, spec_file, tmp_path):
     assert (code, err) == (0, "")
     assert "== Saw line bank: 480 V 60 Hz → 415 V 60 Hz ==" in out
     assert "CAUTION:" in out and "wrongly claim" in out
-    assert sorted(p.name for p in out_dir.iterdir()) == ["rerate-bom-difference.csv", "rerate.json", "rerate.txt"]
+    assert sorted(p.name for p in out_dir.iterdir()) == ["rerate-bom-difference.csv", "rerate.json", "rerate.pdf",
+                                                         "rerate.txt"]
     doc = json.loads((out_dir / "rerate.json").read_text(encoding="utf-8"))
     assert doc["banks"][0]["original_kvar"] == pytest.approx(100.0)
     rows = list(csv.DictReader(io.StringIO((out_dir / "rerate-bom-difference.csv").read_text(encoding="utf-8"))))

@@ -15,7 +15,7 @@ from pdf_text import pages_text, size_yaml, squash
 from bankbuild.api import demo_spec_path, run_spec
 from bankbuild.reports.figure import Text, text_width, to_drawing
 from bankbuild.reports.oneline import oneline_figure, oneline_rows, oneline_svg
-from bankbuild.reports.pdf_common import gnum
+from bankbuild.reports.pdf_common import gnum, num
 
 SVG = "{http://www.w3.org/2000/svg}"
 
@@ -88,8 +88,8 @@ def test_contactor_with_damping_and_reactor_figures_are_labelled(demo):
     assert contains(svg_texts(oneline_svg(bank_d)), f"damping {damped.switching.damping}")
     texts = svg_texts(oneline_svg(bank_r))
     r = detuned.reactor
-    assert contains(texts, f"L {gnum(r.inductance_mh)} mH, p {gnum(r.tuning_pct)}%")
-    assert contains(texts, f"{gnum(r.current_rating_a)} A")
+    assert contains(texts, f"L {num(r.inductance_mh, 3)} mH, p {gnum(r.tuning_pct)}%")
+    assert contains(texts, num(r.current_rating_a, 1, "A"))
 
 
 def test_sixteen_steps_fold_onto_rows_each_step_once(tmp_path):
