@@ -291,6 +291,11 @@ def catalog_check(folder: Annotated[Path | None, typer.Argument(help="Folder of 
     folder = folder or builtin_dir()
     for info in check_catalogs(folder):
         typer.echo(f"ok  {info.file_name:<28} sha256 {info.sha256[:16]}…")
+    from bankbuild.spec.rulebasis import read_rule_basis, rule_files
+
+    for path in rule_files(folder):  # rule-basis files beside the tables, checked against their schema
+        basis = read_rule_basis(path)
+        typer.echo(f"ok  {basis.file_name:<28} sha256 {basis.sha256[:16]}…  rule basis {basis.label}")
 
 
 @catalog_app.command("copy")

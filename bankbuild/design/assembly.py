@@ -240,8 +240,11 @@ def _switching_checks(steps, voltage_v: float, factor: float) -> list[Check]:
 
 def _inrush_summary(steps, caps, reactors_uh, voltage_v, inter_uh, source_uh, isc, automatic) -> InrushSummary:
     if automatic:
-        first = steps[0].switching
-        last = steps[-1].switching
+        # the worst step of each kind, named: a later or larger step can be far above step 1's or the last's
+        energised = [s for s in steps if s.switching.energising_peak_a is not None]
+        first = max(energised, key=lambda s: s.switching.energising_peak_a) if energised else steps[0]
+        others = [s for s in steps if s.switching.back_to_back_peak_a is not None]
+        last = max(others, key=lambda s: s.switching.back_to_back_peak_a) if others else steps[-1]
         needed = [s.index for s in steps if s.switching.damping_needed]
         damping = "none"
         if needed:
@@ -250,11 +253,13 @@ def _inrush_summary(steps, caps, reactors_uh, voltage_v, inter_uh, source_uh, is
                 "pre-insertion resistors" if k == "resistors" else "damping reactors" for k in kinds)
             if any(s.switching.damping_reactor_uh for s in steps):
                 damping += " plus damping reactors"
-        energising = first.energising_peak_a
         return InrushSummary(inter_step_inductance_uh=inter_uh, source_inductance_uh=source_uh,
-                             short_circuit_current_a=isc, energising_peak_a=energising,
-                             back_to_back_peak_a=last.back_to_back_peak_a,
-                             back_to_back_frequency_hz=last.inrush_frequency_hz if last.back_to_back_peak_a else None,
+                             short_circuit_current_a=isc, energising_peak_a=first.switching.energising_peak_a,
+                             back_to_back_peak_a=last.switching.back_to_back_peak_a,
+                             back_to_back_frequency_hz=(last.switching.inrush_frequency_hz
+                                                        if last.switching.back_to_back_peak_a else None),
+                             energising_step=first.index if energised else None,
+                             back_to_back_step=last.index if others else None,
                              damping_needed=bool(needed), damping=damping)
     energising = inrush_peak_a(voltage_v, sum(caps), source_uh + sum(reactors_uh)) if source_uh else None
     return InrushSummary(inter_step_inductance_uh=inter_uh, source_inductance_uh=source_uh,

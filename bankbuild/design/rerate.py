@@ -164,14 +164,21 @@ def _contactor_fit(k: int, old, new, rows, voltage_v: float) -> ItemFit | None:
     row = min(frames, key=lambda r: r.voltage_v) if frames else None
     capacity = row.ac6b_current_a if row is not None else 0.0
     wanted = new_sw.contactor.designation if new_sw.contactor is not None else "none in the table"
-    needs_damping = new_sw.damping_needed and old_sw.damping == "none"
+    # The installed frame is judged on its own limits (its making peak, and with no damping resistors the units'
+    # 100 × I_N), against the prospective peaks at the new supply — not on what a newly picked frame would need.
+    peaks = [x for x in (new_sw.energising_peak_a, new_sw.back_to_back_peak_a) if x is not None]
+    peak = max(peaks) if peaks else 0.0
+    limit = 0.0 if row is None else (row.max_peak_a if row.damping == "resistors"
+                                     else min(row.max_peak_a, new_sw.capacitor_limit_a))
+    needs_damping = row is not None and peak > limit + EPS
     fits = row is not None and capacity >= new_sw.required_current_a - EPS and not needs_damping
     if row is None:
         detail = f"the contactor table has no {name} row for {voltage_v:g} V"
     elif capacity < new_sw.required_current_a - EPS:
         detail = f"carries {capacity:.1f} A at {row.voltage_v:g} V; the step needs {new_sw.required_current_a:.1f} A"
     elif needs_damping:
-        detail = "the inrush here needs damping resistors or reactors"
+        detail = (f"prospective peak {peak:,.0f} A here is above its {limit:,.0f} A limit: needs damping resistors "
+                  "or reactors")
     else:
         detail = ""
     return ItemFit(item=f"Step {k} contactor", installed=f"{name} ({old_sw.damping})", required=wanted,
@@ -213,8 +220,11 @@ def item_fits(original: BankResult, at_new: BankResult, resized: BankResult,
                        f"{mh:.3f} mH, ≥ {need_a:.1f} A", lowered=False)
             if not tuning_ok:
                 r = alt.detuning
-                want = (f"{r.reactor_inductance_mh:.3f} mH, {r.reactor_current_a:.1f} A (p = {r.tuning_pct:g}%)"
-                        if r else "re-tuned reactors")
+                # the replacement's current on the same basis as `size`: fundamental and the stated harmonics
+                alt_a = alt.reactor.required_current_a if alt.reactor is not None else (r.reactor_current_a if r
+                                                                                         else 0.0)
+                want = (f"{r.reactor_inductance_mh:.3f} mH, ≥ {alt_a:.1f} A with the harmonic allowance "
+                        f"(p = {r.tuning_pct:g}%)" if r else "re-tuned reactors")
                 fit = fit.model_copy(update={
                     "fits": False, "action": "change", "required": want,
                     "detail": f"tuned to {new.detuning.tuning_frequency_hz:.0f} Hz = order "

@@ -66,9 +66,11 @@ def assembly_lines(bank: BankResult) -> list[str]:
     if inrush is not None and (inrush.energising_peak_a or inrush.back_to_back_peak_a):
         parts = []
         if inrush.energising_peak_a:
-            parts.append(f"energising {inrush.energising_peak_a:,.0f} A peak")
+            at = f" (worst: step {inrush.energising_step})" if inrush.energising_step else ""
+            parts.append(f"energising {inrush.energising_peak_a:,.0f} A peak{at}")
         if inrush.back_to_back_peak_a:
-            parts.append(f"back-to-back {inrush.back_to_back_peak_a:,.0f} A peak "
+            at = f" (worst: step {inrush.back_to_back_step})" if inrush.back_to_back_step else ""
+            parts.append(f"back-to-back {inrush.back_to_back_peak_a:,.0f} A peak{at} "
                          f"(L {inrush.inter_step_inductance_uh:g} µH assumed between steps)")
         out.append(_clip("  inrush        " + ", ".join(parts)))
         out.append(_clip(f"                damping: {inrush.damping}"))

@@ -342,6 +342,8 @@ def copy_catalogs(dest: str | Path, force: bool = False) -> list[Path]:
     if folder.exists() and not folder.is_dir():
         raise CatalogError(str(folder), "", "not a folder")
     targets = [(builtin_dir() / t.file_name, folder / t.file_name) for t in TABLES]
+    # the rule-basis files (rules-*.yaml) sit beside the tables and are copied with them, to edit there
+    targets += [(path, folder / path.name) for path in sorted(builtin_dir().glob("rules-*.yaml"))]
     for _, target in targets:
         if target.is_dir() or (target.exists() and not force):
             problem = ("is a folder; move it away" if target.is_dir() else

@@ -299,7 +299,9 @@ def test_folder_problems(tmp_path: Path) -> None:
 def test_copy_then_check_round_trip(tmp_path: Path, cats: Catalogs) -> None:
     dest = tmp_path / "mine" / "tables"
     written = copy_catalogs(dest)
-    assert [p.name for p in written] == [t.file_name for t in TABLES]
+    # the tables in their fixed order, then the rule-basis files that sit beside them
+    assert [p.name for p in written] == [t.file_name for t in TABLES] + [
+        "rules-csa.yaml", "rules-iec.yaml", "rules-nec-2020.yaml", "rules-nec-2023.yaml"]
     infos = check_catalogs(dest)
     assert [i.sha256 for i in infos] == [t.sha256 for t in cats.tables]
     assert load_catalogs(dest).conductors_nec == cats.conductors_nec
