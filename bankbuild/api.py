@@ -123,12 +123,13 @@ def _tables_stay_inside(spec_file, folder: Path, base: Path) -> None:
         raise SpecError(spec_file.path, "catalogs", f"cannot read the folder ({exc.strerror or exc})") from None
 
 
-def _tables_for(spec_file, catalogs_dir: str | os.PathLike | None):
-    """The tables the spec sizes with and its rule basis (a user's copy beside those tables wins)."""
+def _tables_for(spec_file, catalogs_dir: str | os.PathLike | None, demo_prices: bool = False):
+    """The tables the spec sizes with and its rule basis (a user's copy beside those tables wins); with
+    ``demo_prices`` the built-in (invented) price table unless the folder has its own ``prices.csv``."""
     from bankbuild.tables.load import load_catalogs
 
     folder = Path(catalogs_dir) if catalogs_dir is not None else spec_catalogs_dir(spec_file)
-    return load_catalogs(folder), spec_rule_basis(spec_file, folder)
+    return load_catalogs(folder, demo_prices=demo_prices), spec_rule_basis(spec_file, folder)
 
 
 def size(spec: SpecSource, *, catalogs_dir: str | os.PathLike | None = None, on_bank=None) -> ProjectResult:
@@ -163,8 +164,8 @@ def size(spec: SpecSource, *, catalogs_dir: str | os.PathLike | None = None, on_
 
 
 def demo() -> ProjectResult:
-    """Size the built-in demo plant (an invented site)."""
-    return run_spec(demo_spec_path(), label="demo.yaml (built-in)")
+    """Size the built-in demo plant (an invented site), its bill of materials priced with invented demo prices."""
+    return run_spec(demo_spec_path(), label="demo.yaml (built-in)", demo_prices=True)
 
 
 def spec_rule_basis(spec_file, tables_dir: Path | None = None):
@@ -193,17 +194,18 @@ def spec_rule_basis(spec_file, tables_dir: Path | None = None):
     return builtin_rule_basis(spec.rules, spec.nec_edition)
 
 
-def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | None = None, on_bank=None):
+def run_spec(spec_path: Path, catalogs_dir: Path | None = None, label: str | None = None, on_bank=None,
+             demo_prices: bool = False):
     """Read ``spec_path``, load the tables (``catalogs_dir`` beats the spec's own), size every bank.
 
     ``on_bank(done, total, name)`` is passed to :func:`bankbuild.design.sizing.size_project` (a progress bar);
-    ``label`` names the spec in the documents.
+    ``label`` names the spec in the documents; ``demo_prices`` prices with the built-in (invented) prices.
     """
     from bankbuild.design.sizing import size_project
     from bankbuild.spec.read import read_spec
 
     spec_file = read_spec(spec_path)
-    tables, basis = _tables_for(spec_file, catalogs_dir)
+    tables, basis = _tables_for(spec_file, catalogs_dir, demo_prices)
     return size_project(spec_file.spec, tables, spec_path=label or spec_file.path,
                         spec_sha256=spec_file.sha256, on_bank=on_bank, basis=basis)
 

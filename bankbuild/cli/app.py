@@ -49,6 +49,18 @@ OutOpt = Annotated[Path | None, typer.Option("--out", help="Folder for the docum
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print the results as one JSON document on stdout.")]
 StrictOpt = Annotated[bool, typer.Option("--strict", help="Exit with code 1 when any check is flagged (bad input "
                                                            "still exits with 2).")]
+CSV_DELIMITERS = {",": ",", ";": ";", "comma": ",", "semicolon": ";", "tab": "\t"}
+CsvOpt = Annotated[str, typer.Option("--csv-delimiter", help="Cell separator of the CSV bill of materials: ',' "
+                                                             "(default), ';' for spreadsheets set to a locale with a "
+                                                             "decimal comma, or 'tab'.")]
+
+
+def _csv_delimiter(value: str) -> str:
+    if value not in CSV_DELIMITERS:
+        raise OptionError("", "csv_delimiter", f"must be ',', ';' or tab (got {value!r})")
+    return CSV_DELIMITERS[value]
+
+
 CatOpt = Annotated[Path | None, typer.Option("--catalogs", help="Folder of rating tables that replace the "
                                                                 "built-in ones (overrides the spec's).")]
 
@@ -83,7 +95,7 @@ def _strict_exit(banks, strict: bool) -> None:
 
 
 def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Path | None, label: str,
-              strict: bool = False) -> None:
+              strict: bool = False, csv_delimiter: str = ",", demo_prices: bool = False) -> None:
     """Size, then write the documents: into ``out``, or ``bankbuild-out``; with ``--json`` only when ``--out``
     is given, so that the JSON of a large plant comes in seconds without rendering every PDF page."""
     from bankbuild.api import run_spec
@@ -93,10 +105,12 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
     from bankbuild.reports.writer import write_documents
 
     with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
-        result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"))
+        delimiter = _csv_delimiter(csv_delimiter)
+        result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"),
+                          demo_prices=demo_prices)
         if out is None and not as_json:
             out = Path("bankbuild-out")
-        written = [] if out is None else write_documents(result, out,
+        written = [] if out is None else write_documents(result, out, csv_delimiter=delimiter,
                                                            on_document=progress.callback("writing documents"))
     if as_json:
         typer.echo(project_json(result))
@@ -107,25 +121,28 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
 
 @app.command()
 def size(spec: Annotated[Path, typer.Argument(help="The bank spec (YAML).")],
-         out: OutOpt = None, json: JsonOpt = False, catalogs: CatOpt = None, strict: StrictOpt = False) -> None:
+         out: OutOpt = None, json: JsonOpt = False, catalogs: CatOpt = None, strict: StrictOpt = False,
+         csv_delimiter: CsvOpt = ",") -> None:
     """Size every bank in SPEC and write its documents.
 
     Exit codes: 0 done; 1 with --strict when a check is flagged; 2 bad input (nothing written).
 
     Example: bankbuild size plant.yaml --out quote-2041
     """
-    _run_size(spec, out, json, catalogs, str(spec), strict)
+    _run_size(spec, out, json, catalogs, str(spec), strict, csv_delimiter)
 
 
 @app.command()
-def demo(out: OutOpt = None, json: JsonOpt = False, strict: StrictOpt = False) -> None:
+def demo(out: OutOpt = None, json: JsonOpt = False, strict: StrictOpt = False, csv_delimiter: CsvOpt = ",") -> None:
     """Run the built-in demo plant (an invented site) and write its documents.
+
+    Its bill of materials is priced from the built-in price table: invented demo prices, marked so.
 
     Example: bankbuild demo --out demo-docs
     """
     from bankbuild.api import demo_spec_path
 
-    _run_size(demo_spec_path(), out, json, None, "demo.yaml (built-in)", strict)
+    _run_size(demo_spec_path(), out, json, None, "demo.yaml (built-in)", strict, csv_delimiter, demo_prices=True)
 
 
 @app.command()

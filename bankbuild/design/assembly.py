@@ -23,6 +23,7 @@ from bankbuild.design import stepplan
 from bankbuild.design.bom import bank_bom
 from bankbuild.design.control import ControlInputs, control_circuit, ct_basis
 from bankbuild.design.enclosure import device_loss_w, enclosure, fan_va
+from bankbuild.design.pricing import bom_total, price_lines
 from bankbuild.design.reactors import step_reactor
 from bankbuild.design.switching import step_switching
 from bankbuild.results.sizing import BankResult, Check, InrushSummary, LossLine, Reconnection, StepPlanResult
@@ -179,7 +180,8 @@ def assemble_bank(result: BankResult, bank: Bank, catalogs, ctx, units) -> BankR
     assembled = result.model_copy(update={
         "steps": steps, "step_plan": plan, "inrush": inrush, "reconnection": reconnection, "control": control,
         "enclosure": encl, "checks": [*result.checks, *checks]})
-    return assembled.model_copy(update={"bom": bank_bom(assembled, catalogs, ctx)})
+    lines = price_lines(bank_bom(assembled, catalogs, ctx), catalogs)
+    return assembled.model_copy(update={"bom": lines, "bom_total": bom_total(lines, catalogs)})
 
 
 def _reactor_checks(steps, tolerance_pct: float) -> list[Check]:

@@ -31,6 +31,7 @@ class Part:
     notes: str = ""
     where: list[int] = field(default_factory=list)
     extra: list[str] = field(default_factory=list)  # distinct notes gathered while merging
+    part_id: str = ""  # the table row's id, for the price table and the XLSX
 
 
 def _row(rows, number: int):
@@ -52,7 +53,7 @@ def merge(parts: list[Part]) -> list[BomLine]:
     merged: dict[tuple, Part] = {}
     noted: dict[tuple, set[str]] = {}  # a set beside each line's notes: a plant's merge stays linear
     for p in parts:
-        key = (p.category, p.description, p.table, p.row, p.unit)
+        key = (p.category, p.description, p.table, p.row, p.unit, p.part_id)
         if key in merged:
             m = merged[key]
             m.qty += p.qty
@@ -62,7 +63,7 @@ def merge(parts: list[Part]) -> list[BomLine]:
                 m.extra.append(p.notes)
         else:
             merged[key] = Part(p.category, p.description, p.qty, p.unit, p.table, p.row, "", list(p.where),
-                               [p.notes] if p.notes else [])
+                               [p.notes] if p.notes else [], p.part_id)
             noted[key] = {p.notes} if p.notes else set()
     order = {c: i for i, c in enumerate(CATEGORIES)}
     ranked = sorted(enumerate(merged.values()), key=lambda ip: (order.get(ip[1].category, len(order)), ip[0]))
@@ -70,7 +71,7 @@ def merge(parts: list[Part]) -> list[BomLine]:
     for item, (_, p) in enumerate(ranked, start=1):
         notes = "; ".join(x for x in (step_span(p.where), *p.extra) if x)
         lines.append(BomLine(item=item, qty=float(p.qty), unit=p.unit, category=p.category,
-                             description=p.description, table=p.table, row=p.row, notes=notes))
+                             description=p.description, table=p.table, row=p.row, notes=notes, part_id=p.part_id))
     return lines
 
 
@@ -91,7 +92,7 @@ def project_bom(banks: list[BankResult]) -> list[BomLine]:
     for bank in banks:
         for line in bank.bom:
             parts.append(Part(line.category, line.description, line.qty, line.unit, line.table, line.row,
-                              f"{bank.name}: {line.qty:g}"))
+                              f"{bank.name}: {line.qty:g}", part_id=line.part_id))
     return merge(parts)
 
 
@@ -116,7 +117,8 @@ def bank_bom(bank: BankResult, catalogs, ctx) -> list[BomLine]:
             row = _row(catalogs.capacitor_units, u.row)
             text = row.description or (f"three-phase capacitor unit {u.rated_kvar:g} kvar at {u.rated_voltage_v:g} V "
                                        f"{u.rated_frequency_hz:g} Hz")
-            parts.append(Part("Capacitor units", f"{u.id}: {text}", u.qty, table=u.table, row=u.row, where=k))
+            parts.append(Part("Capacitor units", f"{u.id}: {text}", u.qty, table=u.table, row=u.row, where=k,
+                              part_id=u.id))
         parts += _reactor_parts(step, v, bank.frequency_hz, catalogs)
         parts += _switching_parts(step, catalogs)
         if not single:
@@ -152,7 +154,8 @@ def _reactor_parts(step, v: float, f: float, catalogs) -> list[Part]:
     if r.reactor is not None:
         row = _row(catalogs.reactors, r.reactor.row)
         text = f"{row.reactor_id}: {row.description}; {row.inductance_mh:g} mH per phase, {row.current_a:g} A thermal"
-        return [Part("Detuning reactors", text, 1, table=row.table, row=row.row, where=[step.index])]
+        return [Part("Detuning reactors", text, 1, table=row.table, row=row.row, where=[step.index],
+                     part_id=row.reactor_id)]
     amps = (f"≥ {r.current_rating_a:.0f} A rms with harmonics" if math.isfinite(r.current_rating_a)
             else "current to suit (p tunes onto a harmonic of the stated spectrum)")
     text = (f"Detuning reactor made to order: three-phase, p = {r.tuning_pct:g}% ({r.tuning_frequency_hz:.0f} Hz), "
@@ -170,7 +173,7 @@ def _switching_parts(step, catalogs) -> list[Part]:
         amps, volts = sw.contactor_current_a, sw.contactor_voltage_v
         parts.append(Part("Step switching", f"{row.contactor_id}: {row.description}; AC-6b {amps:g} A at {volts:g} V: "
                                             f"Q = √3 × {volts:g} V × {amps:g} A = {sw.contactor_kvar:.1f} kvar", 1,
-                          table=row.table, row=row.row, where=[step.index]))
+                          table=row.table, row=row.row, where=[step.index], part_id=row.contactor_id))
     if sw.damping_reactor_uh:
         parts.append(Part("Step switching", f"Air-core inrush damping reactor, single-phase, ≥ "
                                             f"{sw.damping_reactor_uh:,.1f} µH, ≥ {sw.required_current_a:.0f} A rms",
@@ -219,12 +222,12 @@ def _control_parts(bank: BankResult, catalogs) -> list[Part]:
     if c.controller is not None:
         row = _row(catalogs.controllers, c.controller.row)
         parts.append(Part(cat, f"{row.controller_id}: {row.description}", 1, table=row.table, row=row.row,
-                          notes=f"{c.outputs_needed} outputs used"))
+                          notes=f"{c.outputs_needed} outputs used", part_id=row.controller_id))
     if c.ct is not None:
         row = _row(catalogs.current_transformers, c.ct.row)
         parts.append(Part(cat, f"{row.ct_id}: {row.description}", 1, table=row.table, row=row.row,
                           notes="on one phase of the incoming supply, upstream of the load and the bank; "
-                                f"ratio for {c.ct_basis_a:,.0f} A: {c.ct_basis}"))
+                                f"ratio for {c.ct_basis_a:,.0f} A: {c.ct_basis}", part_id=row.ct_id))
     elif c.outputs_needed:
         parts.append(Part(cat, "Current transformer, ratio to suit the load current at the CT (not known)", 1,
                           notes="give assembly.ct_load_current_a to size it"))
@@ -232,14 +235,14 @@ def _control_parts(bank: BankResult, catalogs) -> list[Part]:
         row = _row(catalogs.control_transformers, c.control_transformer.row)
         parts.append(Part(cat, f"{row.transformer_id}: {row.description}, {bank.supply_voltage_v:g} V / "
                                f"{c.control_voltage_v:g} V", 1, table=row.table, row=row.row,
-                          notes=f"control load {c.control_load_va:,.0f} VA sealed"))
+                          notes=f"control load {c.control_load_va:,.0f} VA sealed", part_id=row.transformer_id))
     for pick, qty, note in ((c.primary_fuse, 2, "control transformer primary"),
                             (c.secondary_fuse, 1 if c.control_transformer else 2, "control circuit"),
                             (c.measuring_fuse, 2, "controller voltage-measuring leads")):
         if pick is not None:
             row = _row(catalogs.control_fuses, pick.row)
             parts.append(Part(cat, f"{row.fuse_id}: {row.description}, rated ≥ {bank.supply_voltage_v:g} V", qty,
-                              table=row.table, row=row.row, notes=note))
+                              table=row.table, row=row.row, notes=note, part_id=row.fuse_id))
     return parts
 
 
@@ -252,12 +255,13 @@ def _enclosure_parts(bank: BankResult, catalogs) -> list[Part]:
     if e.fan is not None:
         row = _row(catalogs.fans, e.fan.row)
         parts.append(Part(cat, f"{row.fan_id}: {row.description}", e.fan_qty, table=row.table, row=row.row,
-                          notes=f"≥ {e.airflow_m3_per_h:,.0f} m³/h in all"))
+                          notes=f"≥ {e.airflow_m3_per_h:,.0f} m³/h in all", part_id=row.fan_id))
     if e.busbar is not None:
         row = _row(catalogs.busbars, e.busbar.row)
         parts.append(Part(cat, f"{row.busbar_id}: {row.description}, {row.rating_a:g} A ({e.busbar_rating_a:,.0f} A "
                                f"inside at {e.busbar_derating:g})", 1, unit="set", table=row.table, row=row.row,
-                          notes=f"one set = 3 phases; ≥ {e.busbar_required_a:,.0f} A needed; length to suit"))
+                          notes=f"one set = 3 phases; ≥ {e.busbar_required_a:,.0f} A needed; length to suit",
+                          part_id=row.busbar_id))
     parts.append(Part(cat, f"Enclosure, ventilated, to suit the layout: {e.total_losses_w:,.0f} W inside, forced "
                            f"air ≥ {e.airflow_m3_per_h:,.0f} m³/h for {e.temperature_rise_k:g} K rise at "
                            f"{e.ambient_c:g} °C", 1, notes="size and rating from the enclosure maker"))

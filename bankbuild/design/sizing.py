@@ -15,6 +15,7 @@ from bankbuild.design.checks import detuned_resonance_order, percent_as_fraction
 from bankbuild.design.existing import resolve_units
 from bankbuild.design.figures import discharge_curve, power_triangle
 from bankbuild.design.harmonics import study as harmonic_study
+from bankbuild.design.pricing import bom_total, price_lines
 from bankbuild.design.protection import CircuitContext, size_circuit
 from bankbuild.design.provenance import provenance
 from bankbuild.design.rules import CAUTIONS, discharge_for, rule_basis_for
@@ -49,8 +50,9 @@ def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "
         if on_bank is not None:
             on_bank(i + 1, len(spec.banks), bank.name)
     prov = provenance(basis, catalogs, spec_path, spec_sha256)
+    lines = price_lines(project_bom(banks), catalogs)
     return ProjectResult(project=spec.project.model_dump(), provenance=prov, banks=banks, cautions=list(CAUTIONS),
-                         bom=project_bom(banks))
+                         bom=lines, bom_total=bom_total(lines, catalogs))
 
 
 def need_summary(need: Need, voltage_v: float) -> NeedSummary:

@@ -16,8 +16,9 @@ from bankbuild.reports.pdf_blocks import (
     section_break,
     title_block,
 )
-from bankbuild.reports.pdf_common import PM, P, build_pdf, frame_for, gnum, num, para_text
-from bankbuild.results.sizing import BankResult, BomLine, ProjectResult
+from bankbuild.reports.pdf_common import FLAG_RED, PM, P, build_pdf, frame_for, gnum, num, para_text
+from bankbuild.reports.tables import total_text
+from bankbuild.results.sizing import BankResult, BomLine, BomTotal, ProjectResult
 
 DOC_TITLE = "Bill of materials"
 
@@ -131,15 +132,37 @@ def description_cell(line: BomLine):
               "</i></font>")
 
 
-def items_table(lines: list[BomLine], width: float):
-    """The line items, with a header that repeats on every page."""
-    shares = (0.05, 0.08, 0.13, 0.53, 0.21)
-    head = [C(h, "head") for h in ("Item", "Qty", "Category", "Description and ratings (notes in italics)",
-                                   "Table / row")]
-    rows = [head]
+def money(value: float | None) -> str:
+    """A price with two decimals and thousands separators.
+
+    >>> money(1234.5), money(None)
+    ('1,234.50', '')
+    """
+    return "" if value is None else f"{value:,.2f}"
+
+
+def items_table(lines: list[BomLine], width: float, total: BomTotal | None = None):
+    """The line items, with a header that repeats on every page; with prices, unit and extended prices, lines
+    without a price flagged, and a total row."""
+    if total is None:
+        shares = (0.05, 0.08, 0.13, 0.53, 0.21)
+        head = ("Item", "Qty", "Category", "Description and ratings (notes in italics)", "Table / row")
+    else:
+        shares = (0.05, 0.075, 0.115, 0.43, 0.095, 0.105, 0.13)
+        head = ("Item", "Qty", "Category", "Description and ratings (notes in italics)",
+                f"Unit price {total.currency}", f"Extended {total.currency}", "Table / row")
+    rows = [[C(h, "head") for h in head]]
     for line in lines:
-        rows.append([C(str(line.item)), C(qty_text(line)), C(line.category), description_cell(line),
-                     C(source_text(line), "small")])
+        row = [C(str(line.item)), C(qty_text(line)), C(line.category), description_cell(line)]
+        if total is not None:
+            if line.extended_price is None:
+                row += [C("no price", "cell_bold", FLAG_RED), C("—")]
+            else:
+                row += [C(money(line.unit_price)), C(money(line.extended_price), "cell_bold")]
+        rows.append(row + [C(source_text(line), "small")])
+    if total is not None:
+        rows.append([C(""), C(""), C("Total", "cell_bold"), C(total_text(total)), C(""),
+                     C(money(total.total), "cell_bold"), C("")])
     return grid(rows, [width * s for s in shares])
 
 
@@ -151,7 +174,7 @@ def bank_section(index: int, total: int, bank: BankResult, width: float) -> list
     story = [section_break(first_height + 40), P(f"Bank {index} of {total}: {bank.name}", "h1"), *diagram,
              section_break(190), bank_summary(bank, width), gap(6), P("Line items", "h2")]
     if bank.bom:
-        story.append(items_table(list(bank.bom), width))
+        story.append(items_table(list(bank.bom), width, bank.bom_total))
     else:
         story.append(P("The results carry no line items for this bank: the parts list was not produced by this "
                        "run. The step and protection figures above are in the protection worksheet.", "note"))
@@ -162,13 +185,21 @@ def bom_story(result: ProjectResult, width: float) -> list:
     """Every flowable of the bill of materials, in order."""
     story = title_block(result, DOC_TITLE, "Parts for quotation, with ratings and the table row each came from. "
                                            "Generic descriptions: choose makes and models to these ratings.", width)
-    total = len(result.banks)
+    total = result.bom_total
+    if total is not None:
+        note = (f"Prices from {total.source}: unit prices per the line's unit, in {total.currency}, before tax and "
+                "freight; lines marked 'no price' are not in the total.")
+        if total.invented:
+            note = ("DEMO PRICES: every price here is invented (no supplier, catalogue or price list); this is "
+                    "not a quotation. " + note)
+        story += [P(note, "note"), gap(4)]
+    count = len(result.banks)
     for i, bank in enumerate(result.banks, start=1):
-        story += bank_section(i, total, bank, width)
-    if result.bom and total > 1:
+        story += bank_section(i, count, bank, width)
+    if result.bom and count > 1:
         story += [section_break(160), P("All banks together", "h1"),
                   P("Identical parts of every bank merged into one list.", "note"),
-                  items_table(list(result.bom), width)]
+                  items_table(list(result.bom), width, result.bom_total)]
     story += [gap(10), cautions_box(result.cautions, width), gap(8)]
     story += provenance_block(result, width)
     return story

@@ -14,7 +14,9 @@ import json
 
 from bankbuild.results.sizing import BomLine, ProjectResult
 
-COLUMNS = ("scope", "item", "qty", "unit", "category", "description", "table", "row", "notes")
+COLUMNS = ("scope", "item", "part_id", "qty", "unit", "category", "description", "table", "row", "notes")
+PRICE_COLUMNS = ("unit_price", "extended_price", "currency", "lead_time_days", "supplier_note", "price_status")
+NO_PRICE = "no price"
 PROJECT_SCOPE = "Project (all banks)"
 FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 SHEET_FORBIDDEN = '[]:*?/\\'
@@ -56,21 +58,79 @@ def bom_rows(result: ProjectResult) -> list[tuple[str, BomLine]]:
     return rows
 
 
-def _cells(scope: str, line: BomLine) -> list:
-    return [scope, line.item, _qty(line.qty), line.unit, line.category, line.description, line.table,
-            line.row if line.row is not None else "", line.notes]
+def columns(result: ProjectResult) -> tuple[str, ...]:
+    """The columns of the bill of materials: the price columns only when a price table was used."""
+    return COLUMNS + (PRICE_COLUMNS if result.bom_total is not None else ())
 
 
-def bom_csv(result: ProjectResult) -> bytes:
+def _blank(value):
+    return "" if value is None else value
+
+
+def _cells(scope: str, line: BomLine, priced: bool = False) -> list:
+    cells = [scope, line.item, line.part_id, _qty(line.qty), line.unit, line.category, line.description, line.table,
+             line.row if line.row is not None else "", line.notes]
+    if priced:
+        cells += [_blank(line.unit_price), _blank(line.extended_price), line.currency, _blank(line.lead_time_days),
+                  line.supplier_note, line.price_status]
+    return cells
+
+
+def total_text(total) -> str:
+    """The total's label: what it covers and which lines have no price.
+
+    >>> from bankbuild.results.sizing import BomTotal
+    >>> print(total_text(BomTotal(currency="USD", total=10.0, priced_lines=3, unpriced_lines=2, unpriced_items=[4, 9],
+    ...                           longest_lead_time_days=30, complete=False, source="prices.csv", invented=True)))
+    Total of 3 priced lines (USD; 2 lines without a price: items 4, 9; longest lead time 30 days; invented demo prices)
+    """
+    parts = [total.currency]
+    if total.unpriced_lines:
+        items = ", ".join(str(i) for i in total.unpriced_items[:20]) + ("…" if total.unpriced_lines > 20 else "")
+        parts.append(f"{total.unpriced_lines} line{'s' if total.unpriced_lines > 1 else ''} without a price: "
+                     f"item{'s' if total.unpriced_lines > 1 else ''} {items}")
+    if total.longest_lead_time_days is not None:
+        parts.append(f"longest lead time {total.longest_lead_time_days} days")
+    if total.invented:
+        parts.append("invented demo prices")
+    return f"Total of {total.priced_lines} priced line{'s' if total.priced_lines != 1 else ''} ({'; '.join(parts)})"
+
+
+def _totals(result: ProjectResult) -> list[tuple[str, object]]:
+    """(scope, total) for the project and each bank, in the CSV's order."""
+    return [(PROJECT_SCOPE, result.bom_total)] + [(bank.name, bank.bom_total) for bank in result.banks]
+
+
+def bom_csv(result: ProjectResult, delimiter: str = ",") -> bytes:
     """The bill of materials as CSV (UTF-8 with a byte-order mark, so spreadsheets read µ and ≥ right).
 
-    One header row, then the project list and each bank's list; the ``scope`` column says which.
+    One header row, then the project list and each bank's list; the ``scope`` column says which. With prices,
+    each scope ends with a total row (item ``total``). ``delimiter``: ``,``, ``;`` (for spreadsheets set to a
+    locale whose decimal mark is a comma: decimals are then written with a comma) or a tab.
     """
+    priced = result.bom_total is not None
+    comma = delimiter == ";"  # a locale whose lists split on ';' writes decimals with a comma
+
+    def cell(value):
+        if isinstance(value, str):
+            return neutralise(value)
+        return str(value).replace(".", ",") if comma and isinstance(value, float) else value
+
     buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\r\n")
-    writer.writerow(COLUMNS)
-    for scope, line in bom_rows(result):
-        writer.writerow([neutralise(c) if isinstance(c, str) else c for c in _cells(scope, line)])
+    writer = csv.writer(buffer, lineterminator="\r\n", delimiter=delimiter)
+    head = columns(result)
+    writer.writerow(head)
+    rows = bom_rows(result)
+    totals = dict(_totals(result)) if priced else {}
+    for index, (scope, line) in enumerate(rows):
+        writer.writerow([cell(c) for c in _cells(scope, line, priced)])
+        last = index + 1 == len(rows) or rows[index + 1][0] != scope
+        if priced and last and totals.get(scope) is not None:
+            total = totals[scope]
+            row = dict.fromkeys(head, "") | {"scope": scope, "item": "total", "description": total_text(total),
+                                              "extended_price": total.total, "currency": total.currency,
+                                              "price_status": "total"}
+            writer.writerow([cell(row[c]) for c in head])
     return buffer.getvalue().encode("utf-8-sig")
 
 
@@ -82,7 +142,10 @@ def bom_json(result: ProjectResult) -> bytes:
         "rules": result.provenance.rules,
         "tables": [{"file_name": t.file_name, "sha256": t.sha256} for t in result.provenance.tables],
         "bom": [line.model_dump() for line in result.bom],
-        "banks": [{"name": bank.name, "bom": [line.model_dump() for line in bank.bom]} for bank in result.banks],
+        "bom_total": result.bom_total.model_dump() if result.bom_total is not None else None,
+        "banks": [{"name": bank.name, "bom": [line.model_dump() for line in bank.bom],
+                   "bom_total": bank.bom_total.model_dump() if bank.bom_total is not None else None}
+                  for bank in result.banks],
         "cautions": list(result.cautions),
     }
     return (json.dumps(doc, indent=2, ensure_ascii=False) + "\n").encode("utf-8")
@@ -107,8 +170,11 @@ def sheet_title(name: str, taken: set[str]) -> str:
     return title
 
 
-WIDTHS = {"scope": 24, "item": 6, "qty": 7, "unit": 6, "category": 22, "description": 70, "table": 24, "row": 6,
-          "notes": 50}
+WIDTHS = {"scope": 24, "item": 6, "part_id": 18, "qty": 7, "unit": 6, "category": 22, "description": 70,
+          "table": 24, "row": 6, "notes": 50, "unit_price": 12, "extended_price": 14, "currency": 9,
+          "lead_time_days": 10, "supplier_note": 30, "price_status": 11}
+MONEY_FORMAT = "#,##0.00"
+QTY_FORMATS = {True: "#,##0", False: "#,##0.0##"}  # whole quantities, measured ones
 
 
 def _put(ws, row: int, col: int, value):
@@ -122,31 +188,52 @@ def _put(ws, row: int, col: int, value):
     return cell
 
 
-HEAD_STYLE = "bankbuild header"
-TEXT_STYLE = "bankbuild wrapped"
-
-
-def _add_styles(wb) -> None:
-    """The workbook's two named styles, each defined once: a bold shaded header, and wrapped text set at the
-    top (assigning a named style is one lookup, where a font or alignment per cell is hashed and compared)."""
-    from openpyxl.styles import Alignment, Font, NamedStyle, PatternFill
-
-    wb.add_named_style(NamedStyle(HEAD_STYLE, font=Font(bold=True), fill=PatternFill("solid", fgColor="DDDDDD")))
-    wb.add_named_style(NamedStyle(TEXT_STYLE, alignment=Alignment(wrap_text=True, vertical="top")))
-
-
-def _bom_sheet(ws, lines: list[BomLine], scope: str) -> None:
+def _bom_sheet(ws, lines: list[BomLine], scope: str, head: tuple[str, ...], total, rules: str) -> None:
+    from openpyxl.styles import Alignment, Font, PatternFill
     from openpyxl.utils import get_column_letter
 
-    columns = COLUMNS[1:]
-    for col, name in enumerate(columns, start=1):
-        _put(ws, 1, col, name).style = HEAD_STYLE
+    priced = total is not None
+    names = head[1:]
+    at = {name: col for col, name in enumerate(names, start=1)}
+    for col, name in enumerate(names, start=1):
+        cell = _put(ws, 1, col, name)
+        cell.font = Font(bold=True)
+        cell.fill = PatternFill("solid", fgColor="DDDDDD")
         ws.column_dimensions[get_column_letter(col)].width = WIDTHS[name]
+    wrap = Alignment(wrap_text=True, vertical="top")
+    flag = PatternFill("solid", fgColor="FFE8A8")
     for r, line in enumerate(lines, start=2):
-        for col, value in enumerate(_cells(scope, line)[1:], start=1):
-            _put(ws, r, col, value).style = TEXT_STYLE
+        for col, value in enumerate(_cells(scope, line, priced)[1:], start=1):
+            _put(ws, r, col, value).alignment = wrap
+        ws.cell(row=r, column=at["qty"]).number_format = QTY_FORMATS[float(line.qty).is_integer()]
+        if priced:
+            for name in ("unit_price", "extended_price"):
+                ws.cell(row=r, column=at[name]).number_format = MONEY_FORMAT
+            if line.extended_price is None:
+                for name in ("unit_price", "extended_price", "price_status"):
+                    ws.cell(row=r, column=at[name]).fill = flag
+    last = len(lines) + 1
+    if priced:
+        last += 1
+        _put(ws, last, at["description"], total_text(total)).font = Font(bold=True)
+        cell = _put(ws, last, at["extended_price"], total.total)
+        cell.font, cell.number_format = Font(bold=True), MONEY_FORMAT
+        _put(ws, last, at["currency"], total.currency)
+        _put(ws, last, at["item"], "total").font = Font(bold=True)
     ws.freeze_panes = "A2"
-    ws.auto_filter.ref = f"A1:{get_column_letter(len(columns))}{max(1, len(lines) + 1)}"
+    ws.auto_filter.ref = f"A1:{get_column_letter(len(names))}{max(1, len(lines) + 1)}"
+    _print_setup(ws, rules)
+
+
+def _print_setup(ws, rules: str) -> None:
+    """Landscape, one page wide (as many pages down as it takes), the header row repeated on every page."""
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.paperSize = ws.PAPERSIZE_LETTER if rules == "nec" else ws.PAPERSIZE_A4
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.print_title_rows = "1:1"
+    ws.print_options.gridLines = True
 
 
 def bom_xlsx(result: ProjectResult) -> bytes:
@@ -159,19 +246,18 @@ def bom_xlsx(result: ProjectResult) -> bytes:
     from openpyxl.styles import Alignment, Font
 
     wb = Workbook()
-    _add_styles(wb)
     ws = wb.active
     taken = {"about"}
     ws.title = sheet_title("Project", taken)
-    _bom_sheet(ws, list(result.bom), PROJECT_SCOPE)
+    head, rules = columns(result), result.provenance.rules
+    _bom_sheet(ws, list(result.bom), PROJECT_SCOPE, head, result.bom_total, rules)
     for bank in result.banks:
-        _bom_sheet(wb.create_sheet(sheet_title(bank.name, taken)), list(bank.bom), bank.name)
+        _bom_sheet(wb.create_sheet(sheet_title(bank.name, taken)), list(bank.bom), bank.name, head, bank.bom_total,
+                   rules)
     about = wb.create_sheet("About")
     rows = [("Bill of materials", "")]
     rows += [(k.replace("_", " ").capitalize(), str(v)) for k, v in result.project.items() if v]
     rows += [("bankbuild version", result.provenance.version), ("Rule basis", result.provenance.edition),
-             ("Rule-basis file", result.provenance.rule_basis_file),
-             ("Rule-basis SHA-256", result.provenance.rule_basis_sha256),
              ("Spec file", result.provenance.spec_file), ("Spec SHA-256", result.provenance.spec_sha256), ("", "")]
     rows += [(f"Table {t.file_name}", f"SHA-256 {t.sha256}") for t in result.provenance.tables]
     rows += [("", "")] + [("Caution", text) for text in result.cautions]

@@ -185,6 +185,12 @@ def project_summary(result: ProjectResult, written: list[str] | None = None) -> 
     if result.bom and len(result.banks) > 1:
         lines.append(f"project bill of materials: {len(result.bom)} lines, the banks' parts merged (in the files)")
         lines.append("")
+    total = result.bom_total
+    if total is not None:
+        unpriced = f"; {total.unpriced_lines} line(s) without a price, not in it" if total.unpriced_lines else ""
+        demo = " — INVENTED DEMO PRICES, not a quotation" if total.invented else ""
+        lines += [f"priced bill of materials: {total.total:,.2f} {total.currency} from {total.source}{unpriced}"
+                  f"{demo}", ""]
     lines.extend(closing_lines(written, [result.cautions[0], result.cautions[2]]))
     return "\n".join(lines)
 

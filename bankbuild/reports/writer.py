@@ -14,10 +14,12 @@ ONE_LINE_SVG = "one-line-{n}.svg"
 """File name of bank n's one-line diagram (n from 1, in the order of the spec)."""
 
 
-def _writers(result: ProjectResult | None = None) -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
+def _writers(result: ProjectResult | None = None,
+             csv_delimiter: str = ",") -> list[tuple[str, Callable[[ProjectResult], bytes]]]:
     """(file name, renderer) pairs: each renderer returns the whole file as bytes.
 
-    The documents of every run, then, when ``result`` is given, one SVG one-line diagram per bank.
+    The documents of every run, then, when ``result`` is given, one SVG one-line diagram per bank. ``csv_delimiter``
+    separates the CSV bill of materials' cells.
     """
     from bankbuild.reports.jsonout import project_json
     from bankbuild.reports.pdf_bom import bom_pdf
@@ -26,7 +28,7 @@ def _writers(result: ProjectResult | None = None) -> list[tuple[str, Callable[[P
 
     writers = [("results.json", lambda r: project_json(r).encode("utf-8")),
                ("bill-of-materials.pdf", bom_pdf),
-               ("bill-of-materials.csv", bom_csv),
+               ("bill-of-materials.csv", lambda r: bom_csv(r, csv_delimiter)),
                ("bill-of-materials.xlsx", bom_xlsx),
                ("bill-of-materials.json", bom_json),
                ("protection-worksheet.pdf", worksheet_pdf)]
@@ -45,16 +47,17 @@ def _svg_writer(index: int) -> Callable[[ProjectResult], bytes]:
     return render
 
 
-def write_documents(result: ProjectResult, out_dir: Path, on_document=None) -> list[Path]:
+def write_documents(result: ProjectResult, out_dir: Path, on_document=None, csv_delimiter: str = ",") -> list[Path]:
     """Render every document in memory, then write each atomically into ``out_dir``.
 
     Nothing is written unless every document rendered, and no reader ever sees a half-written file.
     ``on_document(done, total, name)``, if given, reports progress (see :mod:`bankbuild.reports.render`, which
-    renders a large plant's documents on several cores).
+    renders a large plant's documents on several cores). ``csv_delimiter`` separates the CSV's cells (``;`` for
+    spreadsheets in locales whose decimal mark is a comma).
     """
     from bankbuild.reports.render import render_documents
 
-    return write_rendered(render_documents(result, _writers(result), on_document), out_dir)
+    return write_rendered(render_documents(result, _writers(result, csv_delimiter), on_document), out_dir)
 
 
 def write_rendered(rendered: list[tuple[str, bytes]], out_dir: Path) -> list[Path]:

@@ -312,7 +312,13 @@ class NeedSummary(Frozen):
 
 
 class BomLine(Frozen):
-    """One line of a bill of materials: identical parts merged, with the table row they came from."""
+    """One line of a bill of materials: identical parts merged, with the table row they came from.
+
+    ``part_id`` is the table row's id (empty for a part described by its rating only). With a price table,
+    ``unit_price`` (per ``unit``), ``extended_price`` (× ``qty``), ``currency``, ``lead_time_days`` and
+    ``supplier_note`` come from the price row ``price_row``; ``price_status`` is ``priced`` or ``no price``
+    (empty without a price table).
+    """
 
     item: int
     qty: float
@@ -322,6 +328,28 @@ class BomLine(Frozen):
     table: str = ""
     row: int | None = None
     notes: str = ""
+    part_id: str = ""
+    unit_price: float | None = None
+    extended_price: float | None = None
+    currency: str = ""
+    lead_time_days: int | None = None
+    supplier_note: str = ""
+    price_row: int | None = None
+    price_status: str = ""
+
+
+class BomTotal(Frozen):
+    """The priced total of a bill of materials, and what it leaves out."""
+
+    currency: str
+    total: float  # the priced lines only
+    priced_lines: int
+    unpriced_lines: int
+    unpriced_items: list[int]  # the item numbers without a price
+    longest_lead_time_days: int | None
+    complete: bool  # every line has a price
+    source: str  # the price table's file name
+    invented: bool  # the price table says its prices are invented (the built-in demo prices)
 
 
 class VoltageStress(Frozen):
@@ -434,6 +462,7 @@ class BankResult(Frozen):
     voltage_rise_pct: float | None
     checks: list[Check]
     bom: list[BomLine] = []
+    bom_total: BomTotal | None = None  # with a price table only
     system: SystemResult | None = None
     step_plan: StepPlanResult | None = None
     inrush: InrushSummary | None = None
@@ -491,6 +520,7 @@ class ProjectResult(Frozen):
     banks: list[BankResult]
     cautions: list[str]
     bom: list[BomLine] = []
+    bom_total: BomTotal | None = None  # with a price table only
 
     def to_frame(self, view: str = "steps"):
         """A pandas DataFrame over every bank (a ``bank`` column first): ``steps``, ``checks``, ``protection``;

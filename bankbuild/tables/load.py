@@ -40,6 +40,7 @@ from bankbuild.tables.rows import (
     Fan,
     IecConductor,
     NecConductor,
+    Price,
     Reactor,
 )
 from bankbuild.tables.schema import TableSchema, cell_problems, row_problem
@@ -82,6 +83,7 @@ class Catalogs:
     device_losses: tuple[DeviceLoss, ...]
     fans: tuple[Fan, ...]
     busbars: tuple[Busbar, ...]
+    prices: tuple[Price, ...]  # empty unless a price table was given (optional)
     tables: tuple[TableInfo, ...]
     source_dir: str | None
 
@@ -214,6 +216,7 @@ def _read_table(schema: TableSchema, path: Path) -> tuple[TableInfo, tuple[Any, 
         row: dict[str, Any] = {c.name: c.dtype(float(v)) if c.dtype is int else c.dtype(v)
                                for c in schema.columns for v in (cells[c.name][line],)}
         rows.append(row | {"row": line})
+    rows.sort(key=lambda r: tuple(r[c] for c in schema.order))  # rows appended out of order take their place
     problem = row_problem(schema, rows)
     if problem:
         raise _fail(path, problem[2], problem[0], problem[1])
@@ -253,8 +256,8 @@ def _known_files(folder: Path) -> list[TableSchema]:
 
 
 def _assemble(parts: dict[str, tuple[TableInfo, tuple[Any, ...]]], source_dir: str | None) -> Catalogs:
-    rows = {t.attr: parts[t.attr][1] for t in TABLES}
-    return Catalogs(**rows, tables=tuple(parts[t.attr][0] for t in TABLES), source_dir=source_dir)
+    rows = {t.attr: parts[t.attr][1] if t.attr in parts else () for t in TABLES}  # an optional table may be absent
+    return Catalogs(**rows, tables=tuple(parts[t.attr][0] for t in TABLES if t.attr in parts), source_dir=source_dir)
 
 
 @functools.lru_cache(maxsize=1)
@@ -263,12 +266,18 @@ def _builtin_parts() -> dict[str, tuple[TableInfo, tuple[Any, ...]]]:
     return {t.attr: _read_table(t, folder / t.file_name) for t in TABLES}
 
 
-@functools.lru_cache(maxsize=1)
-def _builtin_catalogs() -> Catalogs:
-    return _assemble(_builtin_parts(), None)
+@functools.lru_cache(maxsize=2)
+def _builtin_catalogs(demo_prices: bool = False) -> Catalogs:
+    return _assemble(_required_parts(demo_prices), None)
 
 
-def load_catalogs(user_dir: str | Path | None = None) -> Catalogs:
+def _required_parts(demo_prices: bool) -> dict[str, tuple[TableInfo, tuple[Any, ...]]]:
+    """The built-in tables a run uses: every table that is not optional, and the demo prices when asked for."""
+    return {t.attr: part for t in TABLES for part in (_builtin_parts()[t.attr],)
+            if not t.optional or demo_prices}
+
+
+def load_catalogs(user_dir: str | Path | None = None, demo_prices: bool = False) -> Catalogs:
     """Load every rating table: the built-in ones, each replaced by the user's file of the same name.
 
     Parameters
@@ -276,6 +285,9 @@ def load_catalogs(user_dir: str | Path | None = None) -> Catalogs:
     user_dir : str, Path or None
         A folder of user tables (``catalogs:`` in the spec, ``--catalogs`` on the command line). Tables it
         does not hold fall back to the built-in ones. ``None`` loads the built-in tables only (cached).
+        The optional price table is used only when the folder holds one.
+    demo_prices : bool
+        Use the built-in price table (invented demo prices, for ``bankbuild demo``) unless the folder has one.
 
     Returns
     -------
@@ -296,9 +308,9 @@ def load_catalogs(user_dir: str | Path | None = None) -> Catalogs:
     ['capacitor_units.csv', 'device_ratings.csv']
     """
     if user_dir is None:
-        return _builtin_catalogs()
+        return _builtin_catalogs(demo_prices)
     folder = _folder(user_dir)
-    parts = dict(_builtin_parts())
+    parts = dict(_required_parts(demo_prices))
     for schema in _known_files(folder):
         parts[schema.attr] = _read_table(schema, folder / schema.file_name)
     return _assemble(parts, str(folder))
@@ -321,7 +333,7 @@ def check_catalogs(directory: str | Path) -> tuple[TableInfo, ...]:
     Examples
     --------
     >>> [t.file_name for t in check_catalogs(builtin_dir())][-1]
-    'busbars.csv'
+    'prices.csv'
     """
     folder = _folder(directory)
     return tuple(_read_table(t, folder / t.file_name)[0] for t in _known_files(folder))

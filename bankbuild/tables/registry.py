@@ -22,6 +22,7 @@ from bankbuild.tables.rows import (
     Fan,
     IecConductor,
     NecConductor,
+    Price,
     Reactor,
 )
 from bankbuild.tables.schema import Column, TableSchema
@@ -240,7 +241,24 @@ _ASSEMBLY: tuple[TableSchema, ...] = (
     ),
 )
 
-TABLES = (*TABLES, *_ASSEMBLY)
+PRICES = TableSchema(
+    file_name="prices.csv", attr="prices", row_type=Price,
+    title="Unit prices for quotation (optional: used when a folder of user tables holds it; the built-in file "
+          "holds invented demo prices for `bankbuild demo`)",
+    columns=(
+        Column("part", str, max_length=120),
+        Column("unit_price", float, "", 0.0, 1e9),
+        Column("currency", str, pattern="[A-Z]{3}"),
+        Column("lead_time_days", int, "d", 0, 730),
+        Column("supplier_note", str, required=False),
+    ),
+    keys=(("part",),),
+    order=("part",),
+    uniform=("currency",),
+    optional=True,
+)
+
+TABLES = (*TABLES, *_ASSEMBLY, PRICES)
 
 TABLES_BY_FILE: dict[str, TableSchema] = {t.file_name: t for t in TABLES}
 
@@ -267,11 +285,16 @@ def describe_tables() -> str:
             else:
                 allowed = "any text" if c.required else "any text, may be empty"
             out.append(f"| `{c.name}` | {c.dtype.__name__} | {c.unit or '-'} | {allowed} |")
-        out += ["", f"Sorted by {', '.join(t.order)}; {t.order[-1]} strictly increases within a group."]
+        out += ["", f"Rows are sorted by {', '.join(t.order)} on load (add rows in any order); two rows with the "
+                    "same values there are refused."]
         out += [f"Unique: {' + '.join(k)}." for k in t.keys]
         if t.rising:
             out.append(f"Must not fall as {t.order[-1]} rises: {', '.join(t.rising)}.")
         if t.across:
             out.append(f"Must not fall from left to right in a row: {', '.join(t.across)}.")
+        if t.uniform:
+            out.append(f"One value in the whole table: {', '.join(t.uniform)}.")
+        if t.optional:
+            out.append("Optional: used only when a folder of user tables holds it.")
         out.append("")
     return "\n".join(out)

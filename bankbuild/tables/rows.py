@@ -28,6 +28,19 @@ class CapacitorUnit:
 
 
 @dataclass(frozen=True)
+class Price:
+    """A unit price for quotation: a part id or a pattern of ids or descriptions, and what the part costs."""
+
+    part: str
+    unit_price: float
+    currency: str
+    lead_time_days: int
+    supplier_note: str
+    table: str
+    row: int
+
+
+@dataclass(frozen=True)
 class DeviceRating:
     """A standard ampere rating of a fuse or breaker under one rule basis."""
 

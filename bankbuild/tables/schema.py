@@ -58,6 +58,8 @@ class TableSchema:
     order: tuple[str, ...]
     rising: tuple[str, ...] = ()
     across: tuple[str, ...] = ()
+    uniform: tuple[str, ...] = ()  # columns that hold one value in the whole table (a price list's currency)
+    optional: bool = False  # used only when a user's folder holds it (the built-in file is a demo)
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -192,6 +194,11 @@ def row_problem(schema: TableSchema, rows: list[dict[str, Any]]) -> tuple[int, s
                     problem = (f"{fmt(cur[col])} is below {fmt(prev[col])} on row {prev['row']}; "
                                f"{col} must not fall as {last} rises")
                     return cur["row"], col, problem
+    for column in schema.uniform:
+        for prev, cur in pairwise(rows):
+            if cur[column] != prev[column]:
+                return cur["row"], column, (f"{fmt(cur[column])} differs from {fmt(prev[column])} on row "
+                                            f"{prev['row']}; one {column} for the whole table")
     for row in rows:
         for left, right in pairwise(schema.across):
             if row[right] < row[left]:

@@ -250,10 +250,10 @@ def test_catalog_copy_then_check_then_size(capsys, tmp_path):
 
 
 def test_catalog_check_bad_table(capsys):
-    code, out, err = cli(capsys, "catalog", "check", BAD_CATALOGS / "non_monotonic")
+    code, out, err = cli(capsys, "catalog", "check", BAD_CATALOGS / "duplicate_row")
     assert code == 2
     assert err.startswith("bankbuild: error: ") and err.count("\n") == 1
-    assert "non_monotonic" in err
+    assert "duplicate_row" in err
 
 
 # --- bad input: exit 2, one line, no traceback, nothing written ------------------------------------------------
@@ -277,8 +277,8 @@ def bad_input_cases(tmp_path: Path) -> list[tuple[list, str]]:
         (["size", bad_field, "--out", out], "bad_field.yaml: banks[0] (Line 3).supply.voltage_v: input should be"),
         (["size", bad_yaml, "--out", out], "bad_yaml.yaml: line 2, column 1: not valid YAML"),
         (["size", outside, "--out", out], "outside.yaml: catalogs: '../tables' points outside the spec's folder"),
-        (["size", SPECS / "line3_300kvar.yaml", "--out", out, "--catalogs", BAD_CATALOGS / "non_monotonic"],
-         "non_monotonic"),
+        (["size", SPECS / "line3_300kvar.yaml", "--out", out, "--catalogs", BAD_CATALOGS / "duplicate_row"],
+         "duplicate_row"),
         (["size", SPECS / "line3_300kvar.yaml", "--out", out, "--catalogs", tmp_path / "nowhere"], "nowhere"),
         (["size", SPECS / "line3_300kvar.yaml", "--out", a_file], "a_file: --out: "),
         (["size", SPECS / "line3_300kvar.yaml", "--out", out, "--bogus"], "--bogus: unknown option"),

@@ -153,8 +153,9 @@ def test_csv_has_a_header_and_every_line(demo):
     assert len(rows) - 1 == len(demo.bom) + sum(len(b.bom) for b in demo.banks)
     assert rows[1][0] == PROJECT_SCOPE
     first = demo.bom[0]
-    assert rows[1][1:] == [str(first.item), f"{first.qty:g}", first.unit, first.category, first.description,
-                           first.table, str(first.row), first.notes]
+    assert rows[1][1:] == [str(first.item), first.part_id, f"{first.qty:g}", first.unit, first.category,
+                           first.description, first.table, str(first.row), first.notes]
+    assert first.part_id == first.description.split(":")[0]  # a capacitor unit: its unit_id
 
 
 def test_json_round_trip(demo):
@@ -175,9 +176,14 @@ def test_xlsx_is_a_tidy_workbook(demo):
     assert header == list(COLUMNS[1:])
     assert all(c.font.bold for c in sheet[1])
     assert sheet.freeze_panes == "A2"
-    assert sheet.column_dimensions["E"].width >= 60  # description
+    assert sheet.column_dimensions["F"].width >= 60  # description
     assert sheet.max_row == len(demo.bom) + 1
-    assert sheet.cell(row=2, column=2).value == demo.bom[0].qty
+    assert sheet.cell(row=2, column=2).value == demo.bom[0].part_id
+    assert sheet.cell(row=2, column=3).value == demo.bom[0].qty
+    assert sheet.cell(row=2, column=3).number_format == "#,##0"
+    # print setup: landscape, one page wide, the header row on every page
+    assert sheet.page_setup.orientation == "landscape" and sheet.page_setup.fitToWidth == 1
+    assert sheet.sheet_properties.pageSetUpPr.fitToPage and sheet.print_title_rows == "$1:$1"
 
 
 def test_risky_text_is_neutralised():
