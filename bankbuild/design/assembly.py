@@ -69,6 +69,10 @@ def plan_result(bank: Bank, result: BankResult, units) -> StepPlanResult:
         weights = bank.steps.weights()
         plan = stepplan.propose_steps(result.required_kvar, weights, [u.rated_kvar for u in units], factor)
         rule = plan.rule if plan else "no units at the chosen voltage: the need split by the weights"
+        smallest = min(result.steps, key=lambda s: s.kvar)
+        built = " + ".join(f"{u.qty} × {u.rated_kvar:g} kvar" for u in smallest.units)
+        rule += (f"; as built, the resolution step (step {smallest.index}) is {built} = {smallest.rated_kvar:g} kvar "
+                 f"nameplate, delivering {smallest.kvar:,.1f} kvar")
         return StepPlanResult(form="plan", pattern=":".join(map(str, weights)), rule=rule, step_kvar=steps,
                               resolution_kvar=min(steps), reachable_kvar=list(reach.values_kvar),
                               reachable_count=reach.count, largest_gap_kvar=reach.largest_gap_kvar,

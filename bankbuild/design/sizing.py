@@ -310,7 +310,7 @@ def assumptions(bank: Bank, ctx: CircuitContext, basis) -> list[str]:
     rules = basis.rules
     prot = bank.protection
     corr = rules.corrections
-    out = [f"Rule basis {basis.label} ({basis.file_name}, SHA-256 {basis.sha256[:12]}…): {rules.documents.basis_line}."]
+    out = [f"Rule basis: {rules.documents.basis_line} (file {basis.file_name}, SHA-256 {basis.sha256[:12]}…)."]
     given = {k for k in prot.model_fields_set}
     for kind, attr in (("conductor", "conductor_factor"), ("disconnect", "disconnect_factor")):
         if attr not in given:
@@ -367,6 +367,9 @@ def _size_step(index: int, target_kvar: float, bank: Bank, rating: UnitRating, c
             tuning_pct=bank.detuning_pct, tuning_frequency_hz=det.tuning_frequency_hz(f_s, p),
             tuning_order=det.tuning_order(p), capacitor_voltage_v=det.capacitor_voltage_v(v_s, p),
             capacitor_kvar_at_supply=at_supply,
+            # re-rating to the voltage the capacitors carry, U_C = U/(1 − p): Q ∝ V²
+            capacitor_kvar_at_capacitor_voltage=cap.rerate_kvar(choice.rated_kvar, v_r, f_r,
+                                                                det.capacitor_voltage_v(v_s, p), f_s),
             reactor_inductance_mh=det.reactor_inductance_mh(at_supply, v_s, f_s, p),
             reactor_current_a=det.reactor_current_a(choice.delivered_kvar, v_s))
     return Step(index=index, target_kvar=target_kvar, kvar=choice.delivered_kvar, rated_kvar=choice.rated_kvar,

@@ -111,7 +111,9 @@ def propose_steps(required_kvar: float, weights: Sequence[int], unit_kvar: Seque
     pattern = ":".join(str(w) for w in weights)
     rule = (f"need {required_kvar:,.1f} kvar ÷ {total_weight} (weights {pattern}) ÷ {factor:.4g} kvar delivered "
             f"per nameplate kvar = {q:,.2f} kvar nameplate per resolution step; rounded up to {resolution:g} kvar "
-            f"({n} × the {s:g} kvar unit); every step a whole multiple of it, built from the fewest units")
+            f"nameplate ({n} × {s:g} kvar reaches it), which delivers {resolution * factor:,.1f} kvar here; every "
+            f"step a whole multiple of it, each built from the fewest units that reach its nameplate kvar (the step "
+            f"list shows which)")
     return ProposedPlan(rated_kvar=steps, resolution_rated_kvar=resolution, unit_kvar=s,
                         units_per_resolution=n, rule=rule)
 

@@ -63,7 +63,7 @@ def inputs_table(bank: BankResult, prov, width: float):
     main = bank.main
     factors = "; ".join(f"{line.item.lower()} × {gnum(line.factor)}" for line in main.sizing if line.factor != 1.0)
     pairs = [
-        ("Rule basis", f"{prov.edition}: {prov.rule_basis_text}" if prov.rule_basis_text else prov.edition),
+        ("Rule basis", prov.rule_basis_text or prov.edition),  # the basis's own sentence names it once
         ("Supply", supply_text(bank)),
         ("Connection", bank.connection),
         ("Need", need_text(bank)),
@@ -149,7 +149,7 @@ def detuning_table(bank: BankResult, width: float):
     if not detuned:
         return None
     head = [C(h, "head") for h in ("Step", "p", "Tuning f_r = f₁/√p", "Capacitor voltage U/(1 − p)",
-                                   "Capacitor kvar at U", "Reactor L", "Reactor current")]
+                                   "Capacitor kvar at U_C", "Reactor L", "Reactor current")]
     rows = [head]
     for step in detuned:
         d = step.detuning
@@ -158,7 +158,8 @@ def detuning_table(bank: BankResult, width: float):
                      C(f"{gnum(bank.frequency_hz)} Hz / √{gnum(p)} = {num(d.tuning_frequency_hz, 1, 'Hz')} "
                        f"(order {d.tuning_order:.2f})"),
                      C(f"{gnum(bank.supply_voltage_v)} V / (1 − {gnum(p)}) = {num(d.capacitor_voltage_v, 1, 'V')}"),
-                     C(num(d.capacitor_kvar_at_supply, 1, "kvar")), C(num(d.reactor_inductance_mh, 3, "mH")),
+                     C(num(d.capacitor_kvar_at_capacitor_voltage, 1, "kvar")),
+                     C(num(d.reactor_inductance_mh, 3, "mH")),
                      C(num(d.reactor_current_a, 1, "A"))])
     shares = (0.06, 0.07, 0.22, 0.22, 0.14, 0.14, 0.15)
     return grid(rows, [width * s for s in shares])

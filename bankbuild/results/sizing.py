@@ -69,6 +69,7 @@ class Detuning(Frozen):
     tuning_order: float
     capacitor_voltage_v: float
     capacitor_kvar_at_supply: float
+    capacitor_kvar_at_capacitor_voltage: float = 0.0  # the same capacitors at U/(1 − p), the voltage they carry
     reactor_inductance_mh: float
     reactor_current_a: float
 

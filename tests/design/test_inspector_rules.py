@@ -183,3 +183,26 @@ def test_catalog_copy_takes_the_rule_bases(tmp_path, capsys):
     assert (tmp_path / "mine" / "rules-csa.yaml").exists()
     assert run(["catalog", "check", str(tmp_path / "mine")]) == 0
     assert "rule basis CSA C22.1" in capsys.readouterr().out
+
+
+def test_reactor_table_gives_capacitor_kvar_at_the_voltage_it_carries(size_bank):
+    # Detuned 7 %, 400 V 50 Hz: the capacitors carry U_C = 400 / (1 − 0.07) = 430.1 V (trade-facts: U_C = U/(1−p));
+    # their kvar there is Q_r·(U_C/U_r)² (re-rating formula), not their kvar at the 400 V supply.
+    bank = size_bank(rules="iec", supply={"voltage_v": 400, "frequency_hz": 50}, need={"kvar": 100}, detuning_pct=7)
+    for step in bank.steps:
+        d = step.detuning
+        u_c = 400 / 0.93
+        rated_v = step.units[0].rated_voltage_v
+        assert d.capacitor_kvar_at_capacitor_voltage == pytest.approx(step.rated_kvar * (u_c / rated_v) ** 2)
+        assert d.capacitor_kvar_at_supply == pytest.approx(step.rated_kvar * (400 / rated_v) ** 2)
+
+
+def test_step_plan_text_matches_the_steps(size_bank):
+    bank = size_bank(need={"kvar": 300}, steps={"count": 4, "pattern": "1:2"})
+    plan = bank.step_plan
+    # the rule text ends with the resolution step as built, the figures the step list shows (here 45 kvar
+    # nameplate is reached by one 50 kvar unit: the text must say 50, not leave 45 as the step)
+    first = bank.steps[0]
+    assert plan.rule.endswith(f"is 1 × 50 kvar = {first.rated_kvar:g} kvar nameplate, delivering {first.kvar:,.1f} "
+                              "kvar")
+    assert plan.resolution_kvar == first.kvar == 50.0
