@@ -129,7 +129,9 @@ def nice_ticks(low: float, high: float, count: int = 6) -> tuple[float, ...]:
     """
     if not (math.isfinite(low) and math.isfinite(high)):
         return (0.0, 1.0)
-    if high - low <= 1e-12 * max(1.0, abs(high)):
+    # a range narrower than a hundred-thousandth of its magnitude is drawn as flat: ticks a millionth apart
+    # could not be told apart in twelve significant digits (nor on a page)
+    if high - low <= 1e-5 * max(1.0, abs(high)):
         spread = abs(high) * 0.2 if abs(high) > 1e-9 else 1.0
         low, high = low - spread, high + spread
     raw = (high - low) / max(count - 1, 1)

@@ -88,6 +88,7 @@ def test_text_width_matches_the_pdf_font():
 
 @settings(max_examples=300)
 @example(0.0, 250001.0)  # once missed its last tick
+@example(100000.0, 1e-06)  # a span a ten-billionth of its magnitude: ticks rounded onto each other
 @given(st.floats(-1e6, 1e6), st.floats(0, 1e6))
 def test_ticks_cover_the_range_in_even_steps(low, span):
     ticks = nice_ticks(low, low + span)
