@@ -16,7 +16,19 @@ from bankbuild.reports.pdf_blocks import (
     section_break,
     title_block,
 )
-from bankbuild.reports.pdf_common import FLAG_RED, PM, P, build_pdf, frame_for, gnum, num, para_text
+from bankbuild.reports.pdf_common import (
+    FLAG_RED,
+    PM,
+    Deferred,
+    Numbering,
+    P,
+    PdfDocument,
+    build_pdf,
+    frame_for,
+    gnum,
+    num,
+    para_text,
+)
 from bankbuild.reports.tables import total_text
 from bankbuild.results.sizing import BankResult, BomLine, BomTotal, ProjectResult
 
@@ -181,32 +193,43 @@ def bank_section(index: int, total: int, bank: BankResult, width: float) -> list
     return story
 
 
-def bom_story(result: ProjectResult, width: float) -> list:
-    """Every flowable of the bill of materials, in order."""
-    story = title_block(result, DOC_TITLE, "Parts for quotation, with ratings and the table row each came from. "
-                                           "Generic descriptions: choose makes and models to these ratings.", width)
-    total = result.bom_total
-    if total is not None:
-        note = (f"Prices from {total.source}: unit prices per the line's unit, in {total.currency}, before tax and "
-                "freight; lines marked 'no price' are not in the total.")
-        if total.invented:
-            note = ("DEMO PRICES: every price here is invented (no supplier, catalogue or price list); this is "
-                    "not a quotation. " + note)
-        story += [P(note, "note"), gap(4)]
+def bom_story(result: ProjectResult, width: float, first: int = 0, stop: int | None = None) -> list:
+    """The flowables of the bill of materials, in order: the title block and price note (with bank ``first`` =
+    0), each bank's section from ``first`` to ``stop - 1`` (made as layout reaches it), the project list and
+    closing blocks (with the last)."""
     count = len(result.banks)
-    for i, bank in enumerate(result.banks, start=1):
-        story += bank_section(i, count, bank, width)
-    if result.bom and count > 1:
-        story += [section_break(160), P("All banks together", "h1"),
-                  P("Identical parts of every bank merged into one list.", "note"),
-                  items_table(list(result.bom), width, result.bom_total)]
-    story += [gap(10), cautions_box(result.cautions, width), gap(8)]
-    story += provenance_block(result, width)
+    stop = count if stop is None else stop
+    story = []
+    if first == 0:
+        story += title_block(result, DOC_TITLE, "Parts for quotation, with ratings and the table row each came from. "
+                                                "Generic descriptions: choose makes and models to these ratings.",
+                             width)
+        total = result.bom_total
+        if total is not None:
+            note = (f"Prices from {total.source}: unit prices per the line's unit, in {total.currency}, before tax "
+                    "and freight; lines marked 'no price' are not in the total.")
+            if total.invented:
+                note = ("DEMO PRICES: every price here is invented (no supplier, catalogue or price list); this is "
+                        "not a quotation. " + note)
+            story += [P(note, "note"), gap(4)]
+    for i in range(first, stop):
+        story.append(Deferred(lambda i=i: bank_section(i + 1, count, result.banks[i], width)))
+    if stop == count:
+        if result.bom and count > 1:
+            story += [section_break(160), P("All banks together", "h1"),
+                      P("Identical parts of every bank merged into one list.", "note"),
+                      items_table(list(result.bom), width, result.bom_total)]
+        story += [gap(10), cautions_box(result.cautions, width), gap(8)]
+        story += provenance_block(result, width)
     return story
 
 
-def bom_pdf(result: ProjectResult) -> bytes:
-    """The bill of materials of ``result`` as PDF bytes (US Letter for NEC, A4 for IEC)."""
+def _bom_range(result: ProjectResult, first: int, stop: int, numbering: Numbering) -> bytes:
     author = result.project.get("prepared_by", "") or "bankbuild"
-    return build_pdf(lambda width: bom_story(result, width), frame_for(result, DOC_TITLE),
-                     result.provenance.rules, "Bill of materials for capacitor banks", author)
+    return build_pdf(lambda width: bom_story(result, width, first, stop), frame_for(result, DOC_TITLE),
+                     result.provenance.rules, "Bill of materials for capacitor banks", author, numbering)
+
+
+# ~30 ms of layout per bank: a piece of fewer banks costs more to start and join than it saves
+bom_pdf = PdfDocument(_bom_range, banks_per_piece=100)
+"""The bill of materials of a result as PDF bytes (US Letter for NEC, A4 for IEC): ``bom_pdf(result)``."""

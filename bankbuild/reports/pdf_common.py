@@ -287,29 +287,42 @@ def _fit(text: str, font: str, size: float, width: float) -> str:
     return text + "…"
 
 
-def _canvas_class(frame: PageFrame):
-    """A canvas that holds back each page until the end, so every footer can say 'page N of M'."""
+Numbering = Callable[[int], tuple[int, int]]
+"""Given the pages of a piece of a document, the pages before it and the pages of the whole document."""
+
+_NUMBER_MARK = "% bankbuild: page number"  # a PDF comment, replaced on every page once the count is known
+
+
+def whole_document(pages: int) -> tuple[int, int]:
+    """The numbering of a document rendered in one piece: no pages before it, ``pages`` in all."""
+    return 0, pages
+
+
+def _canvas_class(frame: PageFrame, numbering: Numbering):
+    """A canvas that draws the running header and footer on each page as it closes, and writes each 'page N of
+    M' into the pages once the count is known (when the document is saved: after this piece is laid out and,
+    for a document rendered in pieces, after every piece is)."""
     from reportlab.lib.colors import Color
     from reportlab.pdfgen.canvas import Canvas
 
     class FramedCanvas(Canvas):
-        def __init__(self, *args, **kwargs):
-            super().__init__(*args, **kwargs)
-            self._pages: list[dict] = []
-
-        def showPage(self):  # noqa: N802 - reportlab's name
-            self._pages.append(dict(self.__dict__))
-            self._startPage()
+        def showPage(self):
+            self._draw_frame()
+            super().showPage()
 
         def save(self):
-            total = len(self._pages)
-            for number, state in enumerate(self._pages, start=1):
-                self.__dict__.update(state)
-                self._draw_frame(number, total)
-                super().showPage()
+            pages = self._doc.Pages.pages
+            before, total = numbering(len(pages))
+            width = self._pagesize[0]
+            for number, page in enumerate(pages, start=before + 1):
+                code, self._code = self._code, []
+                self.setFont(FONT_BOLD, 7.5)
+                self.drawRightString(width - 40, 22, f"page {number} of {total}")
+                page.stream = page.stream.replace(_NUMBER_MARK, "\n".join(self._code), 1)
+                self._code = code
             super().save()
 
-        def _draw_frame(self, number: int, total: int) -> None:
+        def _draw_frame(self) -> None:
             width, height = self._pagesize
             left, right = 40, width - 40
             self.saveState()
@@ -329,11 +342,29 @@ def _canvas_class(frame: PageFrame):
                              FONT, 7, (right - left) * 0.7)
             self.setFont(FONT, 7)
             self.drawString(left, 22, left_text)
-            self.setFont(FONT_BOLD, 7.5)
-            self.drawRightString(right, 22, f"page {number} of {total}")
+            self._code.append(_NUMBER_MARK)
             self.restoreState()
 
     return FramedCanvas
+
+
+class Deferred:
+    """Flowables made only when layout reaches them (a bank's section of a plant of hundreds), so the whole
+    story never sits in memory at once: ``make()`` returns the list."""
+
+    def __init__(self, make: Callable[[], list]):
+        self.make = make
+
+
+def _doc_class():
+    from reportlab.platypus import SimpleDocTemplate
+
+    class Document(SimpleDocTemplate):
+        def filterFlowables(self, flowables):
+            while flowables and isinstance(flowables[0], Deferred):
+                flowables[0:1] = flowables[0].make()
+
+    return Document
 
 
 def page_size(rules: str) -> tuple[float, float]:
@@ -348,34 +379,52 @@ def content_width(rules: str) -> float:
     return page_size(rules)[0] - 2 * 40
 
 
-def build_pdf(story_for: Callable[[float], list], frame: PageFrame, rules: str, subject: str, author: str) -> bytes:
+def build_pdf(story_for: Callable[[float], list], frame: PageFrame, rules: str, subject: str, author: str,
+              numbering: Numbering = whole_document) -> bytes:
     """Lay out the flowables that ``story_for(width)`` returns and give back the whole PDF as bytes.
 
+    The story may hold :class:`Deferred` parts, made as layout reaches them. ``numbering`` says how the pages
+    are numbered (see :data:`Numbering`; a piece of a document rendered in pieces learns it from the others).
     The document is built in memory, so a failure leaves nothing behind. Streams are deflated but not also
     ASCII85-encoded (reportlab's default): smaller files, and that encoder is slow in pure Python.
     """
     from reportlab import rl_config
-    from reportlab.platypus import SimpleDocTemplate
+    from reportlab.platypus.doctemplate import LayoutError
 
     register_fonts()
     buffer = io.BytesIO()
-    doc = SimpleDocTemplate(
+    doc = _doc_class()(
         buffer, pagesize=page_size(rules), leftMargin=40, rightMargin=40, topMargin=44, bottomMargin=46,
         title=plain_text(f"{frame.doc_title} — {frame.project_name}")[:300], author=plain_text(author)[:200],
         subject=subject, creator=f"bankbuild {frame.version}", pageCompression=1, initialFontName=FONT,
         initialFontSize=8)
-    from reportlab.platypus.doctemplate import LayoutError
-
     story = story_for(doc.width)
     use_a85, rl_config.useA85 = rl_config.useA85, 0
     try:
-        doc.build(story, canvasmaker=_canvas_class(frame))
+        doc.build(story, canvasmaker=_canvas_class(frame, numbering))
     except LayoutError as exc:  # e.g. one table row taller than a page: a line, not a traceback
         detail = str(exc).splitlines()[0][:160]
         raise BankbuildError(frame.doc_title, "layout", f"cannot lay out the document ({detail})") from None
     finally:
         rl_config.useA85 = use_a85
     return buffer.getvalue()
+
+
+class PdfDocument:
+    """A PDF of a run that can be rendered whole (call it with the results) or in pieces, each a range of banks
+    (:mod:`.render` splits a large plant's documents over the processor cores and joins the pieces).
+
+    ``render_range(result, first, stop, numbering)`` renders banks ``first`` to ``stop - 1``, with the opening
+    blocks when ``first`` is 0 and the closing ones when ``stop`` is the last bank; ``banks_per_piece`` is the
+    least number of banks worth a piece of its own.
+    """
+
+    def __init__(self, render_range: Callable[[ProjectResult, int, int, Numbering], bytes], banks_per_piece: int):
+        self.render_range = render_range
+        self.banks_per_piece = banks_per_piece
+
+    def __call__(self, result: ProjectResult) -> bytes:
+        return self.render_range(result, 0, len(result.banks), whole_document)
 
 
 def frame_for(result: ProjectResult, doc_title: str) -> PageFrame:

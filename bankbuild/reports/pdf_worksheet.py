@@ -28,7 +28,10 @@ from bankbuild.reports.pdf_common import (
     INK,
     PM,
     RULE_GREY,
+    Deferred,
+    Numbering,
     P,
+    PdfDocument,
     build_pdf,
     frame_for,
     gnum,
@@ -289,23 +292,32 @@ def sign_off(result: ProjectResult, width: float):
                            "equipment makers' data; they are not made by this program.", "note"), table])
 
 
-def worksheet_story(result: ProjectResult, width: float) -> list:
-    """Every flowable of the protection worksheet, in order."""
-    story = title_block(result, DOC_TITLE, "Inputs, every sizing step with its formula, factor, rule and chosen "
-                                           "rating, discharge and system checks — for review by the authority "
-                                           "having jurisdiction.", width)
-    story += [cautions_box(result.cautions[:3], width, "Before you rely on these figures"), gap(4)]
+def worksheet_story(result: ProjectResult, width: float, first: int = 0, stop: int | None = None) -> list:
+    """The flowables of the protection worksheet, in order: the opening blocks (with bank ``first`` = 0), each
+    bank's section from ``first`` to ``stop - 1`` (made as layout reaches it), the closing blocks (with the last)."""
     total = len(result.banks)
-    for i, bank in enumerate(result.banks, start=1):
-        story += bank_section(i, total, bank, result, width)
-    story += [section_break(200), gap(6), cautions_box(result.cautions, width), gap(8)]
-    story += provenance_block(result, width)
-    story += [gap(10), sign_off(result, width)]
+    stop = total if stop is None else stop
+    story = []
+    if first == 0:
+        story += title_block(result, DOC_TITLE, "Inputs, every sizing step with its formula, factor, rule and chosen "
+                                                "rating, discharge and system checks — for review by the authority "
+                                                "having jurisdiction.", width)
+        story += [cautions_box(result.cautions[:3], width, "Before you rely on these figures"), gap(4)]
+    for i in range(first, stop):
+        story.append(Deferred(lambda i=i: bank_section(i + 1, total, result.banks[i], result, width)))
+    if stop == total:
+        story += [section_break(200), gap(6), cautions_box(result.cautions, width), gap(8)]
+        story += provenance_block(result, width)
+        story += [gap(10), sign_off(result, width)]
     return story
 
 
-def worksheet_pdf(result: ProjectResult) -> bytes:
-    """The protection worksheet of ``result`` as PDF bytes (US Letter for NEC, A4 for IEC)."""
+def _worksheet_range(result: ProjectResult, first: int, stop: int, numbering: Numbering) -> bytes:
     author = result.project.get("prepared_by", "") or "bankbuild"
-    return build_pdf(lambda width: worksheet_story(result, width), frame_for(result, DOC_TITLE),
-                     result.provenance.rules, "Protection worksheet for capacitor banks", author)
+    return build_pdf(lambda width: worksheet_story(result, width, first, stop), frame_for(result, DOC_TITLE),
+                     result.provenance.rules, "Protection worksheet for capacitor banks", author, numbering)
+
+
+# ~50 ms of layout per bank: a piece of fewer banks costs more to start and join than it saves
+worksheet_pdf = PdfDocument(_worksheet_range, banks_per_piece=60)
+"""The protection worksheet of a result as PDF bytes (US Letter for NEC, A4 for IEC): ``worksheet_pdf(result)``."""

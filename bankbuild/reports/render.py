@@ -5,8 +5,14 @@ rendered side by side: the worker processes are forked from this one (they inher
 pickled on the way in) and send back bytes. The heaviest documents start first. On one core, or off Linux
 (where forking is not the safe default), everything renders in this process.
 
+A document that can be rendered in pieces (a PDF: ranges of banks, see :class:`.pdf_common.PdfDocument`) is, for a
+large plant, split over several workers, so that wall time approaches the CPU time divided by the cores. Each
+piece lays out its banks, tells this process its page count, learns the pages before it and in all (its "page N
+of M"), finishes and sends its bytes; the pieces are then joined (:mod:`.pdf_join`). Every piece but the first
+starts on a new page.
+
 Whatever happens in a worker (an error, a crash, a worker killed for memory), that document is rendered
-again here, so the error a user sees is the same as in a single process. Nothing is written in this module.
+again here, whole, so the error a user sees is the same as in a single process. Nothing is written in this module.
 
 Signals belong to this process: a worker ignores Ctrl-C (the terminal sends it to every process of the job; this
 process stops the workers), dies on SIGTERM and SIGHUP as a plain process does, and is killed by the system when
@@ -17,11 +23,13 @@ from __future__ import annotations
 
 import os
 from collections.abc import Callable, Sequence
+from dataclasses import dataclass
 
 # Measured on 2 cores: the demo (3 banks) 2.1 s -> 1.9 s, a 1-bank spec 1.8 s -> 1.5 s, 500 banks 80 s -> 48 s
 # (starting a forked worker costs a few tens of ms; the workbook library's import alone is ~0.4 s).
 PARALLEL_MIN_BANKS = 1
 MAX_WORKERS = 4
+MAX_PIECES = 8  # of one document
 
 Writer = tuple[str, Callable[[object], bytes]]
 _JOB: tuple[object, Sequence[Writer]] | None = None  # set before forking; read by the workers
@@ -91,15 +99,6 @@ def _die_with_parent() -> None:
         pass
 
 
-def _render_in_worker(index: int) -> bytes | None:
-    """Render one document in a forked worker; None on any failure (the parent renders it again)."""
-    try:
-        result, writers = _JOB
-        return writers[index][1](result)
-    except BaseException:  # noqa: BLE001 - reported by rendering again in the parent
-        return None
-
-
 def render_documents(result, writers: Sequence[Writer],
                      on_document: Callable[[int, int, str], None] | None = None) -> list[tuple[str, bytes]]:
     """Every document as ``(file name, bytes)``, in the order of ``writers``.
@@ -120,52 +119,179 @@ def render_documents(result, writers: Sequence[Writer],
     return [(writers[i][0], done[i]) for i in range(total)]
 
 
-def _render_parallel(result, writers: Sequence[Writer], workers: int, report) -> dict[int, bytes]:
-    """Render in forked workers; returns what they rendered (failures are left out, to be done here).
+def piece_ranges(banks: int, per_piece: int, workers: int) -> list[tuple[int, int]]:
+    """Ranges ``(first, stop)`` of banks, one per piece, about ``per_piece`` banks each; one range when the
+    plant is small or there is one worker.
 
-    If this process is interrupted (Ctrl-C, a signal), the workers are stopped at once rather than left to
-    finish every queued document.
+    >>> piece_ranges(500, 100, 2)
+    [(0, 100), (100, 200), (200, 300), (300, 400), (400, 500)]
+    >>> piece_ranges(150, 100, 2), piece_ranges(500, 100, 1)
+    ([(0, 150)], [(0, 500)])
+    """
+    count = min(banks // per_piece, MAX_PIECES) if workers > 1 else 1
+    if count < 2:
+        return [(0, banks)]
+    bounds = [round(banks * k / count) for k in range(count + 1)]
+    return list(zip(bounds, bounds[1:], strict=False))
+
+
+@dataclass
+class _Job:
+    """One worker's share: a whole document, or one piece (a range of banks) of one."""
+
+    writer: int
+    first: int = 0
+    stop: int = 0
+    pieces: int = 1
+    process: object = None
+    conn: object = None
+    pages: int | None = None
+    data: bytes | None = None
+
+
+def _jobs(result, writers: Sequence[Writer], workers: int) -> list[_Job]:
+    banks = len(getattr(result, "banks", ()))
+    jobs = []
+    for i in heaviest_first(writers):
+        per_piece = getattr(writers[i][1], "banks_per_piece", None)
+        ranges = piece_ranges(banks, per_piece, workers) if per_piece else [(0, banks)]
+        jobs += [_Job(i, first, stop, len(ranges)) for first, stop in ranges]
+    return jobs
+
+
+def _work(job: _Job, conn) -> None:
+    """The body of a worker: render its share, send it, end (never returning into the parent's code)."""
+    code = 0
+    try:
+        result, writers = _JOB
+        render = writers[job.writer][1]
+        if job.pieces == 1:
+            data = render(result)
+        else:
+            def numbering(pages: int) -> tuple[int, int]:
+                conn.send(("pages", pages))
+                reply = conn.recv()
+                if not isinstance(reply, tuple):  # another piece failed: the document is rendered again whole
+                    raise InterruptedError
+                return reply
+
+            data = render.render_range(result, job.first, job.stop, numbering)
+        conn.send(("done", data))
+    except BaseException:  # noqa: BLE001 - the parent renders the document again and reports the error
+        code = 1
+    finally:
+        os._exit(code)
+
+
+def _render_parallel(result, writers: Sequence[Writer], workers: int, report) -> dict[int, bytes]:
+    """Render in forked workers, one per whole document or piece, all started at once (the pieces of a document
+    wait for each other's page counts); returns what they rendered (failures are left out, to be done here).
+
+    If this process is interrupted (Ctrl-C, a signal), the workers are stopped at once.
     """
     import multiprocessing
-    from concurrent.futures import ProcessPoolExecutor, as_completed
-    from concurrent.futures.process import BrokenProcessPool
+    from multiprocessing.connection import wait
 
     global _JOB
+    context = multiprocessing.get_context("fork")
+    jobs = _jobs(result, writers, workers)
     done: dict[int, bytes] = {}
+    failed: set[int] = set()
     _JOB = (result, writers)
-    pool = None
     try:
-        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
-                                   initializer=_worker_start, initargs=(os.getpid(),))
-        futures = {pool.submit(_render_in_worker, i): i for i in heaviest_first(writers)}
-        report(0, len(writers), ", ".join(writers[i][0] for i in heaviest_first(writers)[:workers]))
-        for future in as_completed(futures):
-            index = futures[future]
-            try:
-                data = future.result()
-            except BrokenProcessPool:
-                break
-            if data is not None:
-                done[index] = data
-                report(len(done), len(writers), writers[index][0])
-    except (OSError, BrokenProcessPool):  # no workers to be had: render everything here
-        pass
+        try:
+            for job in jobs:
+                job.conn, child = context.Pipe()
+                job.process = context.Process(target=_start_and_work, args=(os.getpid(), job, child), daemon=True)
+                job.process.start()
+                child.close()
+        except OSError:  # no more processes to be had: what did not start is rendered here
+            jobs = [job for job in jobs if job.process is not None and job.process.pid is not None]
+        report(0, len(writers), ", ".join(dict.fromkeys(writers[job.writer][0] for job in jobs[:workers])))
+        waiting = {job.conn: job for job in jobs}
+        while waiting:
+            for conn in wait(list(waiting)):
+                job = waiting[conn]
+                try:
+                    kind, value = conn.recv()
+                except (EOFError, OSError, ValueError):
+                    kind, value = "failed", None
+                if kind == "pages":
+                    job.pages = value
+                    if job.writer in failed:  # a sibling failed: the document is rendered again here
+                        _send(conn, "stop")
+                    else:
+                        _number_pieces([j for j in jobs if j.writer == job.writer], failed)
+                    continue
+                del waiting[conn]
+                if kind == "done":
+                    job.data = value
+                else:
+                    failed.add(job.writer)
+                    for other in jobs:  # pieces waiting for a count that will never come: release them
+                        if other.writer == job.writer and other.conn in waiting and other.pages is not None:
+                            _send(other.conn, "stop")
+                siblings = [j for j in jobs if j.writer == job.writer]
+                if job.writer not in failed and all(j.data is not None for j in siblings):
+                    done[job.writer] = _join(writers[job.writer][0], [j.data for j in siblings])
+                    for j in siblings:
+                        j.data = None
+                    if done[job.writer] is None:
+                        del done[job.writer]
+                    else:
+                        report(len(done), len(writers), writers[job.writer][0])
     except BaseException:
-        _stop(pool)
+        _stop(jobs)
         raise
     finally:
         _JOB = None
-    if pool is not None:
-        pool.shutdown(wait=True, cancel_futures=True)
+        for job in jobs:
+            if job.conn is not None:
+                job.conn.close()
+    for job in jobs:
+        if job.process is not None:
+            job.process.join()
     return done
 
 
-def _stop(pool) -> None:
-    """Cancel what is queued and end the workers now (after an interruption)."""
-    if pool is None:
+def _start_and_work(parent: int, job: _Job, conn) -> None:
+    _worker_start(parent)
+    _work(job, conn)
+
+
+def _send(conn, message) -> None:
+    try:
+        conn.send(message)
+    except (OSError, ValueError):
+        pass
+
+
+def _number_pieces(pieces: list[_Job], failed: set[int]) -> None:
+    """Once every piece of a document has counted its pages, tell each the pages before it and in all."""
+    if any(j.pages is None for j in pieces) or pieces[0].writer in failed:
         return
-    processes = list((getattr(pool, "_processes", None) or {}).values())
-    pool.shutdown(wait=False, cancel_futures=True)
+    total = sum(j.pages for j in pieces)
+    before = 0
+    for job in pieces:
+        _send(job.conn, (before, total))
+        before += job.pages
+
+
+def _join(name: str, parts: list[bytes]) -> bytes | None:
+    """The pieces of a document as one file (None if they cannot be joined: it is rendered again here)."""
+    if len(parts) == 1:
+        return parts[0]
+    from bankbuild.reports.pdf_join import PieceError, join_pdfs
+
+    try:
+        return join_pdfs(parts)
+    except PieceError:
+        return None
+
+
+def _stop(jobs: list[_Job]) -> None:
+    """End the workers now (after an interruption)."""
+    processes = [job.process for job in jobs if job.process is not None and job.process.pid is not None]
     for process in processes:
         if process.is_alive():
             process.terminate()
