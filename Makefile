@@ -3,7 +3,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test bench lint clean
+.PHONY: demo test bench lint clean wheel-check
 
 $(STAMP): pyproject.toml
 	test -d $(VENV) || $(PY) -m venv $(VENV)
@@ -23,6 +23,10 @@ demo: $(STAMP)
 test: $(STAMP)
 	$(BIN)/ruff check bankbuild tests benchmarks
 	$(BIN)/pytest
+	$(BIN)/python tests/wheel_check.py
+
+wheel-check: $(STAMP)
+	$(BIN)/python tests/wheel_check.py
 
 bench: $(STAMP)
 	$(BIN)/python benchmarks/run.py
