@@ -60,9 +60,9 @@ def triangle_chart(t: PowerTriangle, width: float) -> Chart:
     """The power triangle before (solid) and after (dashed) correction, both axes to one scale."""
     before = ((0.0, 0.0), (t.active_kw, 0.0), (t.active_kw, t.kvar_before), (0.0, 0.0))
     after = ((0.0, 0.0), (t.active_kw, 0.0), (t.active_kw, t.kvar_after), (0.0, 0.0))
-    marks = (Mark("text", x=t.active_kw * 0.4, y=t.kvar_before * 0.4 + 0.08 * t.active_kw,
+    marks = (Mark("text", x=t.active_kw * 0.3, y=t.kvar_before * 0.3 + 0.12 * t.active_kw,
                   label=f"{num(t.kva_before, 0)} kVA, PF {t.pf_before:.3f}"),
-             Mark("text", x=t.active_kw / 2, y=t.kvar_after / 2 - 0.07 * t.active_kw,
+             Mark("text", x=t.active_kw * 0.62, y=t.kvar_after * 0.62 + 0.04 * t.active_kw,
                   label=f"{num(t.kva_after, 0)} kVA, PF {t.pf_after:.3f}"),
              Mark("gap", x=t.active_kw, y=t.kvar_after, y2=t.kvar_before,
                   label=f"bank {num(t.bank_kvar, 1)} kvar"))

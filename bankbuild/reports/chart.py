@@ -198,6 +198,12 @@ def _range(axis: Axis, data: Sequence[float], pad_bars: float = 0.0) -> tuple[fl
     return low, high, tuple(t for t in ticks if low - 1e-9 * abs(high - low) <= t <= high + 1e-9 * abs(high - low))
 
 
+def _inside(ticks: tuple[float, ...], low: float, high: float) -> tuple[float, ...]:
+    """The ticks within low–high (a billionth of the range either side counts as inside)."""
+    eps = 1e-9 * (high - low)
+    return tuple(t for t in ticks if low - eps <= t <= high + eps)
+
+
 def _marker(kind: str, x: float, y: float, size: float = 2.4) -> list[Item]:
     """A marker centred on (x, y): hollow circle and triangle, filled square, hollow diamond, a cross."""
     if kind == "circle":
@@ -268,6 +274,14 @@ def chart_figure(chart: Chart) -> Figure:
         scale = min(plot_w / (x_high - x_low), plot_h / (y_high - y_low))
         x_high = x_low + plot_w / scale
         y_high = y_low + plot_h / scale
+        if chart.x.ticks is None:  # the widened axis gets its ticks to the new end
+            x_ticks = _inside(nice_ticks(x_low, x_high), x_low, x_high)
+            x_step = (x_ticks[1] - x_ticks[0]) if len(x_ticks) > 1 else 1.0
+            x_labels = tuple(tick_text(t, x_step) for t in x_ticks)
+        if chart.y.ticks is None:
+            y_ticks = _inside(nice_ticks(y_low, y_high), y_low, y_high)
+            y_step = (y_ticks[1] - y_ticks[0]) if len(y_ticks) > 1 else 1.0
+            y_labels = tuple(tick_text(t, y_step) for t in y_ticks)
 
     def px(x: float) -> float:
         return left + (x - x_low) / (x_high - x_low) * plot_w

@@ -29,13 +29,13 @@ def chart_block(chart: Chart, head: Sequence[str], rows: Sequence[Sequence[str]]
     Kept together on one page when it fits: a chart without its numbers, or numbers without their chart,
     read badly.
     """
-    from reportlab.platypus import KeepTogether
+    from reportlab.platypus import KeepTogether, Spacer
 
     figure = chart_figure(chart)
     shares = [1 / len(head)] * len(head)
     table = grid([[C(h, "head") for h in head], *[[C(v) for v in row] for row in rows]],
                  [width * s for s in shares])
-    parts = [to_drawing(figure), table]
+    parts = [Spacer(1, 8), to_drawing(figure), table]
     if note:
         parts.append(P(note, "note"))
     return [KeepTogether(parts)]

@@ -142,3 +142,14 @@ def test_svg_file_is_written_beside_the_documents(tmp_path, demo):
     assert svg == oneline_svg(demo.banks[0])
     assert svg_texts(svg)[0] == f"One-line diagram: {demo.banks[0].name}"
     assert oneline_figure(demo.banks[0]).width == 532.0
+
+
+def test_svg_shapes_lie_inside_the_picture(demo):
+    for bank in demo.banks:
+        root = ET.fromstring(oneline_svg(bank).encode("utf-8"))
+        _, _, width, height = (float(v) for v in root.get("viewBox").split())
+        for el in root.iter():
+            for x_attr, y_attr in (("x", "y"), ("x1", "y1"), ("x2", "y2"), ("cx", "cy")):
+                if el.get(x_attr) is not None and el.get(y_attr) is not None:
+                    assert -1 <= float(el.get(x_attr)) <= width + 1, (el.tag, el.attrib)
+                    assert -1 <= float(el.get(y_attr)) <= height + 1, (el.tag, el.attrib)
