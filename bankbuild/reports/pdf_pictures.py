@@ -49,7 +49,7 @@ def triangle_block(bank: BankResult, width: float) -> list:
     if t is None:
         return []
     head, rows = triangle_rows(t)
-    return chart_block(triangle_chart(t, width), head, rows, width,
+    return chart_block(triangle_chart(t, width * 0.7), head, rows, width,
                        "Both axes to one scale. The bank's kvar shortens the vertical side; the line current falls "
                        "with the apparent power.")
 
