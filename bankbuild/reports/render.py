@@ -120,15 +120,16 @@ def render_documents(result, writers: Sequence[Writer],
 
 
 def piece_ranges(banks: int, per_piece: int, workers: int) -> list[tuple[int, int]]:
-    """Ranges ``(first, stop)`` of banks, one per piece, about ``per_piece`` banks each; one range when the
-    plant is small or there is one worker.
+    """Ranges ``(first, stop)`` of banks, one per piece: at least ``per_piece`` banks each, at most one piece per
+    worker (a forked process repeats some work and copies the memory it touches: more pieces than cores cost
+    more than they save); one range when the plant is small or there is one worker.
 
-    >>> piece_ranges(500, 100, 2)
-    [(0, 100), (100, 200), (200, 300), (300, 400), (400, 500)]
+    >>> piece_ranges(500, 100, 2), piece_ranges(500, 100, 4)
+    ([(0, 250), (250, 500)], [(0, 125), (125, 250), (250, 375), (375, 500)])
     >>> piece_ranges(150, 100, 2), piece_ranges(500, 100, 1)
     ([(0, 150)], [(0, 500)])
     """
-    count = min(banks // per_piece, MAX_PIECES) if workers > 1 else 1
+    count = min(banks // per_piece, MAX_PIECES, workers)
     if count < 2:
         return [(0, banks)]
     bounds = [round(banks * k / count) for k in range(count + 1)]
@@ -193,7 +194,10 @@ def _render_parallel(result, writers: Sequence[Writer], workers: int, report) ->
     from multiprocessing.connection import wait
 
     global _JOB
+    import gc
+
     context = multiprocessing.get_context("fork")
+    gc.freeze()  # the results stay out of the workers' collections, so their pages stay shared with this process
     jobs = _jobs(result, writers, workers)
     done: dict[int, bytes] = {}
     failed: set[int] = set()
@@ -245,6 +249,7 @@ def _render_parallel(result, writers: Sequence[Writer], workers: int, report) ->
         raise
     finally:
         _JOB = None
+        gc.unfreeze()
         for job in jobs:
             if job.conn is not None:
                 job.conn.close()
