@@ -259,7 +259,7 @@ def _incomer(bank: BankResult, width: float, height: float, bus_x0: float) -> li
     # the plant's main feeder, the bank tapped from it
     feeder_end = min(width - 4, ct_x + 120)
     items += [Line(0, top, feeder_end, top, width=WIRE + 0.4), Circle(x, top, 1.8, width=0.6, fill=INK),
-              Text(0, top + 6, f"Plant main feeder: {gnum(bank.supply_voltage_v)} V, {gnum(bank.frequency_hz)} Hz, "
+              Text(0, top + 9, f"Plant main feeder: {gnum(bank.supply_voltage_v)} V, {gnum(bank.frequency_hz)} Hz, "
                                f"three-phase; bank connected in {bank.connection}", SIZE + 0.4, bold=True)]
     items += _three(feeder_end - 14, top)
     y = top - 10
@@ -343,7 +343,8 @@ def oneline_notes(bank: BankResult) -> list[str]:
 
 def oneline_figure(bank: BankResult, width: float = SVG_WIDTH) -> Figure:
     """The whole diagram as one figure (rows stacked), with its notes beneath."""
-    notes = [line for note in oneline_notes(bank) for line in wrap(note, SIZE - 0.6, width)]
+    # italic sets a little wider than the upright widths measured, and a viewer may substitute its own font
+    notes = [line for note in oneline_notes(bank) for line in wrap(note, SIZE - 0.6, width * 0.9)]
     foot = Figure(width, 8 + LEAD * len(notes),
                   tuple(Text(0, 4 + LEAD * (len(notes) - 1 - k), t, SIZE - 0.6, italic=True, colour=GREY)
                         for k, t in enumerate(notes)))
