@@ -94,6 +94,8 @@ def spec_catalogs_dir(spec_file) -> Path | None:
     base = spec_file.base_dir
     try:
         target = (base / value).resolve()
+    except RuntimeError:  # a loop of links (Python before 3.13 says so with a RuntimeError)
+        raise SpecError(spec_file.path, "catalogs", f"{value!r} is a loop of links, not a folder") from None
     except (OSError, ValueError) as exc:  # a NUL byte, a name too long, a link loop
         raise SpecError(spec_file.path, "catalogs", f"not a usable folder name ({exc})") from None
     if Path(value).is_absolute() or not target.is_relative_to(base):
@@ -115,7 +117,14 @@ def _tables_stay_inside(spec_file, folder: Path, base: Path) -> None:
     try:
         entries = sorted(folder.iterdir()) if folder.is_dir() else []
         for entry in entries:
-            if entry.suffix.lower() == ".csv" and not entry.resolve().is_relative_to(base):
+            if entry.suffix.lower() != ".csv":
+                continue
+            try:
+                resolved = entry.resolve()
+            except RuntimeError:  # a loop of links (a RuntimeError before Python 3.13, an OSError after)
+                raise SpecError(spec_file.path, "catalogs", f"{entry.name} in {spec_file.spec.catalogs!r} is a loop "
+                                                            "of links, not a table") from None
+            if not resolved.is_relative_to(base):
                 raise SpecError(spec_file.path, "catalogs",
                                 f"{entry.name} in {spec_file.spec.catalogs!r} links to a file outside the spec's "
                                 "folder; copy the table in, or name the folder yourself (`catalogs_dir`)")

@@ -102,14 +102,16 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
     from bankbuild.cli.progress import Progress
     from bankbuild.reports.jsonout import project_json
     from bankbuild.reports.terminal import project_summary
-    from bankbuild.reports.writer import write_documents
+    from bankbuild.reports.writer import check_out, write_documents
 
+    if out is None and not as_json:
+        out = Path("bankbuild-out")
+    if out is not None:
+        check_out(out)  # a folder the documents cannot go into is refused before the work, not after it
     with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
         delimiter = _csv_delimiter(csv_delimiter)
         result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"),
                           demo_prices=demo_prices)
-        if out is None and not as_json:
-            out = Path("bankbuild-out")
         written = [] if out is None else write_documents(result, out, csv_delimiter=delimiter,
                                                            on_document=progress.callback("writing documents"))
     if as_json:
@@ -153,19 +155,17 @@ def init(path: Annotated[Path, typer.Argument(help="Where to write the starter s
     Example: bankbuild init line3.yaml
     """
     from bankbuild.api import SPEC_SCHEMA_FILE, spec_schema, starter_spec_text
+    from bankbuild.files import write_atomic
 
     if path.exists() and not force:
         raise OptionError(str(path), "", "already exists; use --force to replace it")
     if path.exists() and path.is_dir():
         raise OptionError(str(path), "", "is a folder; give a file name")
     schema_path = path.parent / SPEC_SCHEMA_FILE
-    try:
-        path.write_text(starter_spec_text(), encoding="utf-8")
-        wrote_schema = force or not schema_path.exists()
-        if wrote_schema:
-            schema_path.write_text(_dumps(spec_schema()) + "\n", encoding="utf-8")
-    except OSError as exc:
-        raise OptionError(str(path), "", f"cannot write ({exc.strerror or exc})") from None
+    write_atomic(path, starter_spec_text().encode("utf-8"))  # whole or not at all, even on a full disk
+    wrote_schema = force or not schema_path.exists()
+    if wrote_schema:
+        write_atomic(schema_path, (_dumps(spec_schema()) + "\n").encode("utf-8"))
     typer.echo(f"wrote {path}: edit it, then run 'bankbuild size {path}'")
     if wrote_schema:
         typer.echo(f"wrote {schema_path}: editors with YAML language support complete keys and underline typos "
@@ -340,16 +340,22 @@ def _one_line(message: str, limit: int = 600) -> str:
     """An error message made safe to print: control characters escaped, one line, bounded length.
 
     The message may quote a file name or a value from a hostile file; it must not move the cursor, recolour
-    the terminal or spill over many lines.
+    the terminal or spill over many lines. An over-long message loses its middle (a long path), not its end,
+    where the problem is said.
 
     >>> _one_line("spec.yaml: name: bad\\x1b[31m\\nnext")
     'spec.yaml: name: bad\\\\x1b[31m\\\\nnext'
+    >>> _one_line("/" + "x" * 900 + ": out: is a file", 60)
+    '/xxxxxxxxxxxxxxxxxxx…xxxxxxxxxxxxxxxxxxxxxxx: out: is a file'
     """
     import unicodedata
 
     out = "".join(char if char == " " or unicodedata.category(char)[0] not in "CZ" or char == "\u00a0"
                   else char.encode("unicode_escape").decode("ascii") for char in message)
-    return out if len(out) <= limit else out[: limit - 1] + "…"
+    if len(out) <= limit:
+        return out
+    tail = (limit - 1) * 2 // 3 if limit >= 30 else 0
+    return out[: limit - 1 - tail] + "…" + (out[-tail:] if tail else "")
 
 
 class OptionNames(dict):
@@ -369,17 +375,39 @@ class OptionNames(dict):
         return self.SPECIAL.get(key, "--" + key.replace("_", "-"))
 
 
+def _say(line: str) -> None:
+    typer.echo(f"bankbuild: {_one_line(line)}", err=True)
+
+
 def run(argv: list[str] | None = None) -> int:
-    """Run the app and turn every expected failure into one line on stderr and exit code 2."""
+    """Run the app: every expected failure is one line on stderr and exit code 2; a signal stops the run
+    cleanly (exit 128 + its number); anything unexpected is one line and exit code 1 (``--debug``: the
+    traceback)."""
+    from bankbuild.cli.guard import debug_requested, empty_path, run_guarded
+
+    args = list(sys.argv[1:] if argv is None else argv)
+    debug, args = debug_requested(args)
+
+    def body() -> int:
+        try:
+            empty = empty_path(args)
+            if empty is not None:  # an empty path would mean the current folder: refused, not guessed
+                raise OptionError("", empty, "an empty path; give a name (. for the current folder)")
+            return _run_app(args)
+        except BankbuildError as exc:
+            for problem in (exc, *exc.also):  # a spec's every problem, one line each
+                _say(f"error: {problem.line(OptionNames())}")
+            return 2
+
+    return run_guarded(body, _say, debug)
+
+
+def _run_app(argv: list[str]) -> int:
     from typer.exceptions import Abort, TyperException
 
     command = typer.main.get_command(app)
     try:
         code = command.main(args=argv, prog_name="bankbuild", standalone_mode=False)
-    except BankbuildError as exc:
-        for problem in (exc, *exc.also):  # a spec's every problem, one line each
-            typer.echo(f"bankbuild: error: {_one_line(problem.line(OptionNames()))}", err=True)
-        return 2
     except TyperException as exc:  # usage errors of the command line (bad option, missing argument, …)
         ctx = getattr(exc, "ctx", None)
         if type(exc).__name__ == "NoArgsIsHelpError" and ctx is not None:
@@ -388,10 +416,10 @@ def run(argv: list[str] | None = None) -> int:
         sub = ctx.command_path if ctx is not None else "bankbuild"
         from bankbuild.cli.usage import usage_line
 
-        typer.echo(f"bankbuild: error: {_one_line(usage_line(exc))} (see '{sub} --help')", err=True)
+        _say(f"error: {usage_line(exc)} (see '{sub} --help')")
         return getattr(exc, "exit_code", 2)
     except Abort:
-        typer.echo("bankbuild: stopped", err=True)
+        _say("stopped")
         return 1
     return code if isinstance(code, int) else 0
 

@@ -17,17 +17,19 @@ def run_rerate(spec_path: Path, voltage_v: float, frequency_hz: float | None, ou
     from bankbuild.api import rerate
     from bankbuild.reports.pdf_rerate import rerate_pdf
     from bankbuild.reports.rerate_text import bom_difference_csv, rerate_json, rerate_text
-    from bankbuild.reports.writer import write_rendered
+    from bankbuild.reports.writer import RERATE_DOCUMENTS, check_out, write_rendered
 
-    result = rerate(spec_path, voltage_v, frequency_hz, catalogs_dir=catalogs_dir, **transformer)
-    as_text = rerate_json(result)
     if out is None and not as_json:
         out = Path("bankbuild-out")
+    if out is not None:
+        check_out(out, RERATE_DOCUMENTS)  # a folder the documents cannot go into is refused before the work
+    result = rerate(spec_path, voltage_v, frequency_hz, catalogs_dir=catalogs_dir, **transformer)
+    as_text = rerate_json(result)
     written = []
     if out is not None:
         rendered = [("rerate.json", as_text.encode("utf-8")),
                     ("rerate-bom-difference.csv", bom_difference_csv(result).encode("utf-8")),
                     ("rerate.txt", (rerate_text(result) + "\n").encode("utf-8")),
                     ("rerate.pdf", rerate_pdf(result))]
-        written = write_rendered(rendered, out)
+        written = write_rendered(rendered, out, RERATE_DOCUMENTS)
     return result, (as_text if as_json else rerate_text(result, [str(p) for p in written]))

@@ -9,6 +9,8 @@ from bankbuild.calc import capacitor as cap
 from bankbuild.calc import power as pw
 from bankbuild.errors import OptionError
 
+QUICK_KW_MAX = 1e7  # the quick figure's reach, for kW and for the kvar worked out from them
+
 
 def _check_option(name: str, value: float | None, low: float, high: float, low_open: bool = True) -> None:
     if value is None:
@@ -23,9 +25,10 @@ def _check_option(name: str, value: float | None, low: float, high: float, low_o
 def kvar_figures(kw: float | None, pf_present: float | None, pf_target: float | None, loads: Path | None,
                  voltage_v: float, frequency_hz: float) -> dict:
     """Work out the correction; every bad option is an OptionError naming it."""
-    _check_option("voltage_v", voltage_v, 0, 100_000)
-    _check_option("frequency_hz", frequency_hz, 0, 1000)
-    _check_option("kw", kw, 0, 1e7)
+    # from 1 V and 1 Hz up: below that V² and ω underflow to nothing and the figures stop being numbers
+    _check_option("voltage_v", voltage_v, 1, 100_000, low_open=False)
+    _check_option("frequency_hz", frequency_hz, 1, 1000, low_open=False)
+    _check_option("kw", kw, 0, QUICK_KW_MAX)
     _check_option("pf_present", pf_present, 0, 1)
     _check_option("pf_target", pf_target, 0, 1)
     if loads is not None:
@@ -43,6 +46,11 @@ def kvar_figures(kw: float | None, pf_present: float | None, pf_target: float | 
         p_kw, q_kvar, target = kw, pw.reactive_kvar(kw, pf_present), pf_target
         source = "options"
     q_c = pw.correction_kvar(p_kw, q_kvar, target)
+    if not math.isfinite(q_c) or q_c > QUICK_KW_MAX:
+        name = "loads" if loads is not None else "pf_present"
+        raise OptionError("", name, f"{p_kw:,.6g} kW with {q_kvar:,.6g} kvar needs {q_c:,.6g} kvar to reach PF "
+                                    f"{target:g}; the quick figure goes to {QUICK_KW_MAX:,.0f} kvar (as far as "
+                                    "`kw` goes): check `pf_present`")
     pf_before = pw.power_factor(p_kw, q_kvar)
     return {
         "source": source, "active_kw": p_kw, "reactive_kvar": q_kvar, "pf_present": pf_before,

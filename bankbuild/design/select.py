@@ -7,6 +7,7 @@ large enough — the caller turns that into a failed check, never a crash).
 from __future__ import annotations
 
 import math
+from bisect import bisect_left
 from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import lru_cache
@@ -55,6 +56,9 @@ def pick_unit_voltage(available_v: Sequence[float], needed_v: float) -> float | 
     return fits[0] if fits else None
 
 
+SEARCH_BUDGET = 100_000  # candidate units tried per search: a bound no table, target or quantity can raise
+
+
 def best_combination(sizes_kvar: Sequence[float], target_kvar: float) -> tuple[int, ...] | None:
     """Exact search: counts per size with the fewest units, then the least overshoot, reaching the target.
 
@@ -72,10 +76,16 @@ def best_combination(sizes_kvar: Sequence[float], target_kvar: float) -> tuple[i
 
     Notes
     -----
-    The fewest units is n = ceil(T / largest size), since n of the largest reach T and fewer cannot. Among
-    multisets of exactly n units the one with the smallest total that reaches T is found by a search over
-    partial sums, pruned to sums below T + largest (the n-largest total already overshoots by less than the
-    largest size). Ties prefer larger units (fewer distinct parts to stock).
+    The fewest units is n = ceil(T / L), L the largest size, since n of the largest reach T and fewer cannot.
+    Among multisets of exactly n units the one with the smallest total that reaches T is found on the counts,
+    not unit by unit: start from n of the largest, whose total overshoots T by the slack s = n·L − T < L, and
+    swap k of them for smaller units, each swap taking away its difference d = L − size. The best set takes
+    away the most without passing s; every swap takes away at least the smallest difference d_min, so
+    k ≤ s / d_min, however large n is. The swaps are searched over partial sums of differences (a state is a
+    sum and the last size used, with a link to the state it came from, so its memory does not grow with the
+    table), at most :data:`SEARCH_BUDGET` candidates in all; if that bound is reached, the best set found so
+    far is kept (it reaches the target with the fewest units, perhaps with more overshoot). Ties prefer larger
+    units (fewer distinct parts to stock).
 
     Examples
     --------
@@ -83,52 +93,68 @@ def best_combination(sizes_kvar: Sequence[float], target_kvar: float) -> tuple[i
     (0, 1, 0, 1)
     >>> best_combination([12.5, 25], 30)
     (1, 1)
+    >>> best_combination([50.0], 5e6)  # a million units: arithmetic on the count, no loop per unit
+    (100000,)
     """
     if not sizes_kvar:
         return None
     return _best(tuple(float(s) for s in sizes_kvar), round(float(target_kvar), 9))
 
 
+def _positions(chain) -> list[int]:
+    """The positions of a state's swapped units, smallest first (a chain is (position, parent chain))."""
+    out = []
+    while chain is not None:
+        out.append(chain[0])
+        chain = chain[1]
+    return out[::-1]
+
+
 @lru_cache(maxsize=4096)
 def _best(sizes: tuple[float, ...], target: float) -> tuple[int, ...]:
-    largest = max(sizes)
     if target <= EPS:
         return tuple(0 for _ in sizes)
+    order = sorted(range(len(sizes)), key=lambda i: (-sizes[i], i))
+    largest = sizes[order[0]]
     n = max(1, math.ceil(target / largest - EPS))
-    bound = target + largest
-    order = sorted(range(len(sizes)), key=lambda i: -sizes[i])
-    # A state is (partial sum, counts per position, last position used); two states with the same sum and
-    # last position can reach the same finals, so only the one with more large units is kept.
-    layer: dict[tuple[float, int], tuple[float, tuple[int, ...], int]] = {
-        (0.0, 0): (0.0, tuple(0 for _ in sizes), 0)}
-    for k in range(n):
-        remaining = n - k - 1
-        nxt: dict[tuple[float, int], tuple[float, tuple[int, ...], int]] = {}
-        for total, counts, start in layer.values():
-            for pos in range(start, len(order)):
-                size = sizes[order[pos]]
-                new_total = total + size
-                if new_total >= bound - EPS:
-                    continue
-                if new_total + remaining * largest < target - EPS:
-                    break  # sizes only get smaller from here on
-                key = (round(new_total, 6), pos)
-                new_counts = list(counts)
-                new_counts[pos] += 1
-                cand = (new_total, tuple(new_counts), pos)
-                old = nxt.get(key)
-                if old is None or cand[1] > old[1]:
-                    nxt[key] = cand
-        layer = nxt
-    finals = [v for v in layer.values() if v[0] >= target - EPS]
-    if not finals:  # cannot happen (n of the largest always qualify), kept as a guard
-        finals = [(n * largest, tuple([n] + [0] * (len(sizes) - 1)), 0)]
-    best_total = min(v[0] for v in finals)
-    best = max((v for v in finals if abs(v[0] - best_total) < 1e-6), key=lambda v: v[1])
-    counts_by_size = [0] * len(sizes)
-    for pos, count in enumerate(best[1]):
-        counts_by_size[order[pos]] = count
-    return tuple(counts_by_size)
+    slack = n * largest - target
+    diff = [largest - sizes[i] for i in order]  # rising along the positions
+    usable = [pos for pos in range(1, len(order)) if EPS < diff[pos] <= slack + EPS]
+    best_sum, best_chain = 0.0, None
+    if usable:
+        most = min(n, math.floor((slack + EPS) / diff[usable[0]]))
+        layer: dict[tuple[float, int], tuple[float, object]] = {(0.0, 0): (0.0, None)}
+        budget = SEARCH_BUDGET
+        for _ in range(most):
+            nxt: dict[tuple[float, int], tuple[float, object]] = {}
+            for (_, start), (taken, chain) in layer.items():
+                for pos in usable[bisect_left(usable, start):]:
+                    budget -= 1
+                    new = taken + diff[pos]
+                    if new > slack + EPS or budget < 0:
+                        break  # differences only grow from here on
+                    key = (round(new, 6), pos)
+                    old = nxt.get(key)
+                    cand = (new, (pos, chain))
+                    if old is None or _positions(cand[1]) < _positions(old[1]):
+                        nxt[key] = cand
+                if budget < 0:
+                    break
+            layer = nxt
+            if not layer:
+                break
+            top = max(taken for taken, _ in layer.values())
+            if top > best_sum + 1e-6:  # strictly better; on a tie the fewer swaps (more large units) stay
+                ties = [chain for taken, chain in layer.values() if abs(taken - top) < 1e-6]
+                best_sum, best_chain = top, min(ties, key=_positions)
+            if budget < 0 or best_sum >= slack - 1e-6:
+                break
+    counts = [0] * len(sizes)
+    swapped = _positions(best_chain)
+    counts[order[0]] = n - len(swapped)
+    for pos in swapped:
+        counts[order[pos]] += 1
+    return tuple(counts)
 
 
 def build_step(units: Sequence, target_kvar: float, factor: float) -> UnitChoice | None:

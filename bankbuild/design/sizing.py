@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from bankbuild.calc import capacitor as cap
@@ -32,7 +33,7 @@ from bankbuild.results.sizing import (
     Step,
     UnitLine,
 )
-from bankbuild.spec.model import Bank, Need, Spec
+from bankbuild.spec.model import NEED_KVAR_MAX, UNITS_OF_A_KIND_MAX, Bank, Need, Spec
 
 
 def size_project(spec: Spec, catalogs, spec_path: str = "", spec_sha256: str = "",
@@ -74,6 +75,36 @@ def need_summary(need: Need, voltage_v: float) -> NeedSummary:
     return NeedSummary(form="loads", active_kw=p_total, reactive_kvar=q_total,
                        pf_present=pw.power_factor(p_total, q_total), pf_target=need.pf_target, pf_corrected=None,
                        required_kvar=pw.correction_kvar(p_total, q_total, need.pf_target))
+
+
+def need_too_large(need: NeedSummary) -> str:
+    """Why a need worked out from kW or a load list is refused: the derivation, and the limit it passes.
+
+    >>> from bankbuild.results.sizing import NeedSummary
+    >>> text = need_too_large(NeedSummary(form="power", active_kw=1000.0, reactive_kvar=1e6, pf_present=0.001,
+    ...                                   pf_target=0.95, pf_corrected=None, required_kvar=999671.3))
+    >>> print(text.replace(" = ", " =\\n"))
+    kw 1,000 at pf_present 0.001 to pf_target 0.95 needs 1,000 kW × (tan φ1 − tan φ2) =
+    1,000 × (1,000 − 0.3287) =
+    999,671 kvar; at most 100,000 kvar can be sized (as for need.kvar): check kw and pf_present
+    """
+    p, q, t = need.active_kw, need.reactive_kvar, need.pf_target
+    tan2 = pw.tan_phi(t)
+    limit = f"at most {NEED_KVAR_MAX:,.0f} kvar can be sized (as for need.kvar)"
+    if need.form == "power":
+        return (f"kw {_n(p)} at pf_present {need.pf_present:g} to pf_target {t:g} needs {_n(p)} kW × "
+                f"(tan φ1 − tan φ2) = {_n(p)} × ({_n(q / p)} − {tan2:.4f}) = {_n(need.required_kvar)} kvar; "
+                f"{limit}: check kw and pf_present")
+    return (f"the loads draw P = {_n(p)} kW and Q = {_n(q)} kvar (PF {need.pf_present:.4g}); to pf_target "
+            f"{t:g} they need Q − P · tan φ2 = {_n(q)} − {_n(p)} × {tan2:.4f} = {_n(need.required_kvar)} kvar; "
+            f"{limit}: check each load's size, quantity and pf")
+
+
+def _n(value: float) -> str:
+    """A figure of a derivation: whole above a thousand (``1,000,000``), else six significant digits."""
+    if not math.isfinite(value) or abs(value) >= 1e18:
+        return f"{value:.6g}"
+    return f"{value:,.0f}" if abs(value) >= 1000 else f"{value:.6g}"
 
 
 def load_pq(load, voltage_v: float) -> tuple[float, float]:
@@ -123,6 +154,7 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
     need = _need(bank, where, field)
     rating = _unit_rating(bank, catalogs, where, field, checks)
     steps = _steps(bank, need.required_kvar, rating)
+    _bounded_steps(steps, where, field)
     need = _delivery(bank, need, steps, checks)
     ctx = circuit_context(spec, bank, catalogs, where, field, rules)
     sized, main = _protect(bank, steps, rating, ctx, checks)
@@ -149,6 +181,8 @@ def size_bank(bank: Bank, index: int, spec: Spec, catalogs, where: str = "", bas
 def _need(bank: Bank, where: str, field: str) -> NeedSummary:
     """The need at the supply; a bank with nothing to correct and no steps of its own is refused."""
     need = need_summary(bank.need, bank.supply.voltage_v)
+    if not math.isfinite(need.required_kvar) or need.required_kvar > NEED_KVAR_MAX:
+        raise SpecError(where, f"{field}.need", need_too_large(need))
     if need.required_kvar <= 1e-9 and not isinstance(bank.steps, list) and bank.units is None:
         raise SpecError(where, f"{field}.need",
                         f"the present power factor ({need.pf_present:.3f}) already meets the target "
@@ -215,6 +249,17 @@ def _steps(bank: Bank, required_kvar: float, rating: UnitRating) -> list[Step]:
         return [_size_step(k, choice.delivered_kvar, bank, rating, choice) for k, choice in enumerate(choices, 1)]
     targets = step_targets(bank, required_kvar, rating.units, rating.factor)
     return [_size_step(k, target, bank, rating) for k, target in enumerate(targets, start=1)]
+
+
+def _bounded_steps(steps: list[Step], where: str, field: str) -> None:
+    """Refuse steps that would hold more units of one rating than a spec's units list may name."""
+    for step in steps:
+        for line in step.units:
+            if line.qty > UNITS_OF_A_KIND_MAX:
+                raise SpecError(where, f"{field}.steps",
+                                f"step {step.index} of {step.target_kvar:,.1f} kvar needs {line.qty:,} × {line.id}; "
+                                f"a step holds at most {UNITS_OF_A_KIND_MAX:,} units of one rating (as a spec's "
+                                "units list them): split the need into more steps")
 
 
 def _delivery(bank: Bank, need: NeedSummary, steps: list[Step], checks: list[Check]) -> NeedSummary:

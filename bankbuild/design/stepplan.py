@@ -27,6 +27,10 @@ MAX_LISTED = 4096
 count and the largest gap are given."""
 
 
+MAX_BITS = 1 << 22
+"""The bit set of reachable values holds at most this many bits (half a megabyte), whatever the steps."""
+
+
 @dataclass(frozen=True)
 class ProposedPlan:
     """Step sizes proposed for a count and pattern: nameplate kvar of each step, and how they were chosen."""
@@ -150,7 +154,8 @@ def reachable(step_kvar: Sequence[float], factor: float = 1.0, max_listed: int =
     -----
     Subset sums on a bit set: step sizes are counted in 0.001 kvar and divided by their greatest common divisor,
     so a 1:2:2 plan costs a handful of bits whatever its size. Bit k set means k·g is reachable; for each step
-    of d units, reach |= reach << d.
+    of d units, reach |= reach << d. Steps with no common measure (say 0.001 and 99,999.999 kvar) would need
+    more than :data:`MAX_BITS` bits: they are counted on a grid coarse enough to stay within it.
 
     Examples
     --------
@@ -160,16 +165,21 @@ def reachable(step_kvar: Sequence[float], factor: float = 1.0, max_listed: int =
     >>> reachable([10, 40]).largest_gap_kvar, reachable([10, 40]).gap_from_kvar
     (30.0, 10.0)
     """
-    ints = [max(1, round(float(q) * 1000)) for q in step_kvar]
-    if not ints:
+    if not step_kvar:
         return Reach(values_kvar=(0.0,), count=1, largest_gap_kvar=0.0)
+    quantum = 0.001  # kvar
+    ints = [max(1, round(float(q) / quantum)) for q in step_kvar]
     g = reduce(math.gcd, ints)
+    if sum(ints) // g > MAX_BITS:  # steps with no common measure: count on a coarser grid (bounded memory)
+        quantum = max(quantum, float(sum(step_kvar)) / MAX_BITS)
+        ints = [max(1, round(float(q) / quantum)) for q in step_kvar]
+        g = reduce(math.gcd, ints)
     bits = 1
     for d in (i // g for i in ints):
         bits |= bits << d
     text = bin(bits)[:1:-1]  # index k is bit k
     count = text.count("1")
-    unit = g / 1000 * factor
+    unit = g * quantum * factor
     runs = [(len(m.group()), m.start()) for m in re.finditer("0+", text)]
     longest = max(runs, key=lambda r: (r[0], -r[1]), default=(0, 1))  # the lowest of the widest
     gap_bits = longest[0] + 1

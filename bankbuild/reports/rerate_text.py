@@ -5,12 +5,11 @@ They read the rerate results only (:mod:`bankbuild.results.rerate`).
 
 from __future__ import annotations
 
-import csv
 import io
 import json
 
 from bankbuild.reports.jsonout import json_safe
-from bankbuild.reports.tables import neutralise
+from bankbuild.reports.tables import csv_writer, neutralise, whole_qty
 from bankbuild.reports.terminal import _basis_line, closing_lines
 from bankbuild.results.rerate import RerateBank, RerateResult
 
@@ -93,10 +92,11 @@ def rerate_json(result: RerateResult) -> str:
 def bom_difference_csv(result: RerateResult) -> str:
     """One row per change: bank, action (keep/remove/add), quantity, unit, category, description, unit id."""
     buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\n")
+    writer = csv_writer(buffer, lineterminator="\n")
     writer.writerow(["bank", "action", "qty", "unit", "category", "description", "unit_id", "basis"])
     for bank in result.banks:
         for change in bank.bom_difference:
-            writer.writerow([neutralise(bank.name), change.action, f"{change.qty:g}", change.unit, change.category,
-                             neutralise(change.description), neutralise(change.id), bank.bom_basis])
+            row = [bank.name, change.action, whole_qty(change.qty), change.unit, change.category, change.description,
+                   change.id, bank.bom_basis]
+            writer.writerow([neutralise(c) if isinstance(c, str) else c for c in row])
     return buffer.getvalue()

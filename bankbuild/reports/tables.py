@@ -3,7 +3,10 @@
 One consolidated list for the project (every bank merged) and one per bank. Text that a spreadsheet would take
 for a formula (a cell starting with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return) is neutralised: in
 both the CSV and the XLSX it gets a leading apostrophe (and in the XLSX every text is a text cell), so no
-spreadsheet runs it. openpyxl is imported inside :func:`bom_xlsx` only.
+spreadsheet runs it. A CSV is read with the list separator of the reader's locale (``;`` in much of Europe), so
+text such as ``Line 3;=cmd|…`` would split into a formula cell there: every text cell of a CSV is therefore
+quoted (no separator inside quotes splits a cell), and a formula character that starts a piece of text after a
+separator or a line break gets its apostrophe too. openpyxl is imported inside :func:`bom_xlsx` only.
 """
 
 from __future__ import annotations
@@ -11,6 +14,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
 
 from bankbuild.results.sizing import BomLine, ProjectResult
 
@@ -23,28 +27,44 @@ SHEET_FORBIDDEN = '[]:*?/\\'
 SHEET_MAX = 31
 
 
-def risky(text: str) -> bool:
-    """Whether a spreadsheet could take ``text`` for a formula.
+# A formula character that starts a piece of the text after a list separator or a line break (spaces between).
+_INNER_FORMULA = re.compile(r"([,;|\t\r\n][ ]*)([=+\-@\t\r])")
 
-    >>> risky("=SUM(A1:A3)"), risky("-5 A"), risky("Fuse-link 100 A")
-    (True, True, False)
+
+def risky(text: str) -> bool:
+    """Whether a spreadsheet could take ``text``, or a piece of it after a separator, for a formula.
+
+    >>> risky("=SUM(A1:A3)"), risky("-5 A"), risky("Fuse-link 100 A"), risky("Line 3;=cmd|' /C calc'!A0")
+    (True, True, False, True)
     """
-    return text.startswith(FORMULA_START)
+    return text.startswith(FORMULA_START) or _INNER_FORMULA.search(text) is not None
 
 
 def neutralise(text: str) -> str:
-    """Text made safe for a CSV cell: a leading apostrophe where a spreadsheet could see a formula.
+    """Text made safe for a spreadsheet cell: an apostrophe before each formula character that starts the text
+    or a piece of it after a list separator (``,`` ``;`` ``|`` tab) or a line break.
 
     >>> neutralise("=HYPERLINK(\\"x\\")"), neutralise("@cmd"), neutralise("Bank A")
     ('\\'=HYPERLINK("x")', "'@cmd", 'Bank A')
+    >>> neutralise("Line 3; =cmd|' /C calc'!A0"), neutralise("a\\n-1")
+    ("Line 3; '=cmd|' /C calc'!A0", "a\\n'-1")
     """
-    return "'" + text if risky(text) else text
+    if not risky(text):
+        return text
+    text = _INNER_FORMULA.sub(lambda m: m.group(1) + "'" + m.group(2), text)
+    return "'" + text if text.startswith(FORMULA_START) else text
 
 
-def _qty(value: float) -> int | float:
+def csv_writer(buffer: io.StringIO, lineterminator: str = "\r\n", delimiter: str = ","):
+    """A CSV writer that quotes every text cell (numbers stay bare), so that no list separator inside a text
+    splits it into cells whatever the reader's locale; pass each text through :func:`neutralise` too."""
+    return csv.writer(buffer, lineterminator=lineterminator, delimiter=delimiter, quoting=csv.QUOTE_NONNUMERIC)
+
+
+def whole_qty(value: float) -> int | float:
     """Whole quantities as integers.
 
-    >>> _qty(3.0), _qty(12.5)
+    >>> whole_qty(3.0), whole_qty(12.5)
     (3, 12.5)
     """
     return int(value) if float(value).is_integer() else value
@@ -68,8 +88,8 @@ def _blank(value):
 
 
 def _cells(scope: str, line: BomLine, priced: bool = False) -> list:
-    cells = [scope, line.item, line.part_id, _qty(line.qty), line.unit, line.category, line.description, line.table,
-             line.row if line.row is not None else "", line.notes]
+    cells = [scope, line.item, line.part_id, whole_qty(line.qty), line.unit, line.category, line.description,
+             line.table, line.row if line.row is not None else "", line.notes]
     if priced:
         cells += [_blank(line.unit_price), _blank(line.extended_price), line.currency, _blank(line.lead_time_days),
                   line.supplier_note, line.price_status]
@@ -117,7 +137,7 @@ def bom_csv(result: ProjectResult, delimiter: str = ",") -> bytes:
         return str(value).replace(".", ",") if comma and isinstance(value, float) else value
 
     buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\r\n", delimiter=delimiter)
+    writer = csv_writer(buffer, delimiter=delimiter)
     head = columns(result)
     writer.writerow(head)
     rows = bom_rows(result)

@@ -1,17 +1,25 @@
-"""Writing the documents of a run: every file to a temporary name first, then renamed into place."""
+"""Writing the documents of a run: all or nothing, under the output folder's lock (see :mod:`bankbuild.files`).
+
+A reader of the folder sees the previous run's documents or this run's, never a mix and never a file cut short.
+Errors name the folder and the parameter that gave it (``out_dir``); the command line shows its option instead.
+"""
 
 from __future__ import annotations
 
-import os
-import tempfile
 from collections.abc import Callable
 from pathlib import Path
 
-from bankbuild.errors import OptionError
+from bankbuild.files import FileSet, check_folder
 from bankbuild.results.sizing import ProjectResult
 
 ONE_LINE_SVG = "one-line-{n}.svg"
 """File name of bank n's one-line diagram (n from 1, in the order of the spec)."""
+ONE_LINE_PATTERN = r"one-line-[0-9]+\.svg"
+"""Every name a one-line diagram may have: an earlier run's diagrams of banks this run lacks are removed."""
+DOCUMENTS = ("results.json", "bill-of-materials.pdf", "bill-of-materials.csv", "bill-of-materials.xlsx",
+             "bill-of-materials.json", "protection-worksheet.pdf")
+RERATE_DOCUMENTS = ("rerate.json", "rerate-bom-difference.csv", "rerate.txt", "rerate.pdf")
+
 
 
 def _writers(result: ProjectResult | None = None,
@@ -32,6 +40,7 @@ def _writers(result: ProjectResult | None = None,
                ("bill-of-materials.xlsx", bom_xlsx),
                ("bill-of-materials.json", bom_json),
                ("protection-worksheet.pdf", worksheet_pdf)]
+    assert tuple(name for name, _ in writers[:len(DOCUMENTS)]) == DOCUMENTS
     if result is not None:
         writers += [(ONE_LINE_SVG.format(n=n), _svg_writer(n - 1)) for n in range(1, len(result.banks) + 1)]
     return writers
@@ -47,48 +56,33 @@ def _svg_writer(index: int) -> Callable[[ProjectResult], bytes]:
     return render
 
 
-def write_documents(result: ProjectResult, out_dir: Path, on_document=None, csv_delimiter: str = ",") -> list[Path]:
-    """Render every document in memory, then write each atomically into ``out_dir``.
+def check_out(out_dir: str | Path, names: tuple[str, ...] = DOCUMENTS) -> None:
+    """Refuse an output folder the documents could not go into, before any work is done."""
+    check_folder(out_dir, "out_dir", names)
 
-    Nothing is written unless every document rendered, and no reader ever sees a half-written file.
+
+def write_documents(result: ProjectResult, out_dir: Path, on_document=None, csv_delimiter: str = ",") -> list[Path]:
+    """Render every document, then put the whole set into ``out_dir`` at once (created if missing).
+
+    The folder is locked from before the first document renders until the set is in place.
     ``on_document(done, total, name)``, if given, reports progress (see :mod:`bankbuild.reports.render`, which
     renders a large plant's documents on several cores). ``csv_delimiter`` separates the CSV's cells (``;`` for
     spreadsheets in locales whose decimal mark is a comma).
     """
     from bankbuild.reports.render import render_documents
 
-    return write_rendered(render_documents(result, _writers(result, csv_delimiter), on_document), out_dir)
+    check_out(out_dir, DOCUMENTS)
+    with FileSet(Path(out_dir), "out_dir", DOCUMENTS, family_pattern=ONE_LINE_PATTERN) as files:
+        for name, data in render_documents(result, _writers(result, csv_delimiter), on_document):
+            files.add(name, data)
+        return files.commit()
 
 
-def write_rendered(rendered: list[tuple[str, bytes]], out_dir: Path) -> list[Path]:
-    """Write documents already rendered in memory, each atomically, into ``out_dir`` (created if missing)."""
-    try:
-        out_dir.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise OptionError(str(out_dir), "out_dir", f"cannot create the folder ({exc.strerror or exc})") from None
-    if not out_dir.is_dir():
-        raise OptionError(str(out_dir), "out_dir", "is not a folder")
-    return [write_atomic(out_dir / name, data) for name, data in rendered]
-
-
-def write_atomic(path: Path, data: bytes) -> Path:
-    """Write ``data`` to ``path`` through a temporary file in the same folder and an atomic rename."""
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-        # mkstemp makes the file private (0600); a document is for sharing, so give it the mode a plain
-        # open() would: 0666 less the process umask.
-        os.chmod(tmp, 0o666 & ~_umask())
-        os.replace(tmp, path)
-    except OSError as exc:
-        Path(tmp).unlink(missing_ok=True)
-        raise OptionError(str(path), "out_dir", f"cannot write ({exc.strerror or exc})") from None
-    return path
-
-
-def _umask() -> int:
-    """The process umask (read by setting it and putting it straight back)."""
-    mask = os.umask(0o022)
-    os.umask(mask)
-    return mask
+def write_rendered(rendered: list[tuple[str, bytes]], out_dir: Path, family: tuple[str, ...] = ()) -> list[Path]:
+    """Put documents already rendered in memory into ``out_dir`` as one set (created if missing); the files of
+    ``family`` (every name such a set may hold) that it does not hold are removed."""
+    check_out(out_dir, tuple(name for name, _ in rendered))
+    with FileSet(Path(out_dir), "out_dir", family) as files:
+        for name, data in rendered:
+            files.add(name, data)
+        return files.commit()

@@ -39,7 +39,9 @@ def _as_text(value: object) -> object:
 
 
 Text = Annotated[str, BeforeValidator(_as_text), Field(max_length=TEXT_MAX)]
-Kvar = Annotated[float, Field(gt=0, le=100_000)]
+NEED_KVAR_MAX = 100_000.0  # the most a spec may ask for, given as need.kvar or worked out from kW or loads
+UNITS_OF_A_KIND_MAX = 1000  # units of one rating in one step, as a spec's `units` may list them
+Kvar = Annotated[float, Field(gt=0, le=NEED_KVAR_MAX)]
 PowerFactor = Annotated[float, Field(gt=0, le=1)]
 Efficiency = Annotated[float, Field(gt=0, le=1)]
 
@@ -303,7 +305,7 @@ class UnitCount(_Strict):
     """Identical capacitor units in one step of an existing bank: a ``unit_id`` of the unit table and how many."""
 
     id: Annotated[str, Field(min_length=1, max_length=80)]
-    qty: Annotated[int, Field(ge=1, le=1000)] = 1
+    qty: Annotated[int, Field(ge=1, le=UNITS_OF_A_KIND_MAX)] = 1
 
 
 class LightLoad(_Strict):

@@ -293,6 +293,7 @@ def validate_spec(data: dict, where: str, raw: bytes | None = None) -> Any:
 
     from bankbuild.spec.model import Spec
 
+    _looks_like_a_spec(data, where, tuple(Spec.model_fields))
     try:
         return Spec.model_validate(data)
     except ValidationError as exc:
@@ -396,6 +397,18 @@ def _model_keys(loc: tuple) -> list[str]:
             if inner or any(part in model.model_fields for model in models):
                 models = inner
     return sorted({key for model in models for key in model.model_fields})
+
+
+def _looks_like_a_spec(data: dict, where: str, keys: tuple[str, ...]) -> None:
+    """Refuse a file that is no spec at all (a system file, another tool's YAML) without quoting any of it:
+    none of its top-level keys is a spec key, nor close to one. A misspelt spec key still gets its hint."""
+    import difflib
+
+    names = [k for k in data if isinstance(k, str)]
+    if any(k in keys or difflib.get_close_matches(k.lower(), keys, n=1, cutoff=0.6) for k in names[:1000]):
+        return
+    raise SpecError(where, "", f"not a bankbuild spec: none of its {len(data):,} top-level keys is a spec key "
+                               "(a spec holds 'banks', and may hold 'project', 'rules' and 'catalogs')")
 
 
 def _did_you_mean(error: dict, errors: list[dict]) -> str:

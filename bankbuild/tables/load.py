@@ -17,7 +17,6 @@ import functools
 import hashlib
 import os
 import re
-import shutil
 from dataclasses import dataclass, fields
 from importlib import resources
 from pathlib import Path
@@ -52,6 +51,8 @@ __all__ = [
 
 
 MAX_TABLE_BYTES = 4 * 1024 * 1024  # ample for tens of thousands of rows; refuses a runaway or hostile file
+MAX_TABLE_ROWS = 20_000  # far beyond any maker's range; keeps loading and searching a table to about a second
+_LINE_BREAK = re.compile(r"\r\n|\r|\n")
 
 
 @dataclass(frozen=True)
@@ -147,8 +148,7 @@ def _split(path: Path, text: str) -> tuple[list[str], int, list[str], list[tuple
     notes: list[str] = []
     header: tuple[int, list[str]] | None = None
     records: list[tuple[int, list[str]]] = []
-    for number, raw in enumerate(text.split("\n"), start=1):
-        line = raw.rstrip("\r")
+    for number, line in enumerate(_LINE_BREAK.split(text), start=1):  # CR LF, LF, or a lone CR (old Macs)
         if line.lstrip().startswith("#"):
             if header is None:
                 notes.append(line.lstrip()[1:].strip())
@@ -161,6 +161,9 @@ def _split(path: Path, text: str) -> tuple[list[str], int, list[str], list[tuple
             raise _fail(path, f"cannot be read as CSV ({exc})", number) from None
         if header is None:
             header = (number, [c.strip() for c in cells])
+        elif len(records) >= MAX_TABLE_ROWS:
+            raise _fail(path, f"more than {MAX_TABLE_ROWS:,} data rows; a rating table may hold at most that many",
+                        number)
         else:
             records.append((number, cells))
     if header is None:
@@ -343,32 +346,38 @@ def copy_catalogs(dest: str | Path, force: bool = False) -> list[Path]:
     """Copy the built-in tables into ``dest`` (created if needed) to edit them there.
 
     Existing files are overwritten only with ``force``: otherwise, if any table file is already in ``dest``,
-    nothing is copied and a :class:`CatalogError` names it.
+    nothing is copied and a :class:`CatalogError` names it. The tables go in as one set
+    (:class:`bankbuild.files.FileSet`): all of them, each flushed to the disk, or none, so a full disk never
+    leaves a table cut short.
 
     Returns
     -------
     list of Path
         The files written, in the fixed table order.
     """
+    from bankbuild.errors import OptionError
+    from bankbuild.files import FileSet, check_folder
+
     folder = Path(dest)
-    if folder.exists() and not folder.is_dir():
-        raise CatalogError(str(folder), "", "not a folder")
-    targets = [(builtin_dir() / t.file_name, folder / t.file_name) for t in TABLES]
     # the rule-basis files (rules-*.yaml) sit beside the tables and are copied with them, to edit there
-    targets += [(path, folder / path.name) for path in sorted(builtin_dir().glob("rules-*.yaml"))]
-    for _, target in targets:
-        if target.is_dir() or (target.exists() and not force):
-            problem = ("is a folder; move it away" if target.is_dir() else
-                       "already exists; not overwritten (use --force to replace the tables, or choose another "
-                       "folder)")
-            raise CatalogError(str(target), "", problem)
+    names = tuple(t.file_name for t in TABLES) + tuple(p.name for p in sorted(builtin_dir().glob("rules-*.yaml")))
     try:
-        folder.mkdir(parents=True, exist_ok=True)
-        for source, target in targets:
-            shutil.copyfile(source, target)
-    except OSError as exc:
-        raise CatalogError(str(folder), "", f"cannot write the tables ({exc.strerror or exc})") from None
-    return [target for _, target in targets]
+        if folder.exists() and not folder.is_dir():
+            raise CatalogError(str(folder), "", "not a folder")
+        for name in names:
+            target = folder / name
+            if target.is_dir() and not target.is_symlink():
+                raise CatalogError(str(target), "", "is a folder; move it away")
+            if os.path.lexists(target) and not force:
+                raise CatalogError(str(target), "", "already exists; not overwritten (use --force to replace the "
+                                                    "tables, or choose another folder)")
+        check_folder(folder, "", names)
+        with FileSet(folder, "", replace=force) as files:
+            for name in names:
+                files.add(name, (builtin_dir() / name).read_bytes())
+            return files.commit()
+    except OptionError as exc:  # the folder's own problem, in the words of this module's errors
+        raise CatalogError(exc.where, exc.field, exc.problem) from None
 
 
 def _self_check() -> None:

@@ -130,6 +130,8 @@ def cell_problems(column: Column, cells: dict[int, str]) -> list[tuple[int, str]
                   lambda t: f"{fmt(t)} is not in the expected form ({column.pattern})")
         return issues
     values = {line: _number(text) for line, text in cells.items()}
+    if _all_fine(column, cells, values):  # one pass for a good column; the checks below find the first problem
+        return issues
     literal = {line: text.lower().lstrip("+-") in _NOT_FINITE for line, text in cells.items()}
     unit = f" {column.unit}" if column.unit else ""
 
@@ -154,6 +156,21 @@ def cell_problems(column: Column, cells: dict[int, str]) -> list[tuple[int, str]
         allowed = ", ".join(f"{v:g}" for v in column.allowed)
         check(finite(lambda v: v not in column.allowed), lambda t: f"{t} is not one of {allowed}{unit}")
     return issues
+
+
+def _all_fine(column: Column, cells: dict[int, str], values: dict[int, float | None]) -> bool:
+    """Whether every number cell of ``column`` passes every check (empty cells are checked apart)."""
+    low, high, allowed, whole = column.minimum, column.maximum, column.allowed, column.dtype is int
+    bounded = low is not None and high is not None
+    for line, value in values.items():
+        if value is None:
+            if cells[line] == "":
+                continue
+            return False
+        if not math.isfinite(value) or (whole and value != round(value)) or (bounded and not low <= value <= high) \
+                or (allowed and value not in allowed):
+            return False
+    return True
 
 
 def row_problem(schema: TableSchema, rows: list[dict[str, Any]]) -> tuple[int, str, str] | None:

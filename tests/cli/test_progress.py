@@ -13,6 +13,8 @@ import pytest
 from bankbuild.cli import progress as progress_mod
 from bankbuild.cli.app import run
 from bankbuild.cli.progress import DELAY_S, INTERVAL_S, Progress, bar_line
+from bankbuild.errors import BankbuildError
+from bankbuild.reports import render as render_mod
 
 sys.path.insert(0, str(Path(__file__).parents[2] / "benchmarks"))
 from plant import write_plant_spec  # noqa: E402
@@ -109,7 +111,12 @@ def test_error_erases_the_bar_before_the_message(tmp_path: Path, monkeypatch) ->
     monkeypatch.setattr(progress_mod, "INTERVAL_S", 0.0)
     monkeypatch.setattr(sys, "stderr", fake)
     spec = _plant(tmp_path)
-    (tmp_path / "out").write_text("a file where the folder goes\n", encoding="utf-8")
+
+    def fails_while_writing(result, writers, on_document=None):
+        on_document(0, 6, "results.json")
+        raise BankbuildError("results.json", "", "cannot be rendered")
+
+    monkeypatch.setattr(render_mod, "render_documents", fails_while_writing)
     assert run(["size", str(spec), "--out", str(tmp_path / "out")]) == 2
     text = fake.getvalue()
     assert "sizing banks [" in text

@@ -188,9 +188,25 @@ def test_xlsx_is_a_tidy_workbook(demo):
 
 def test_risky_text_is_neutralised():
     # OWASP CSV-injection guidance (common practice): cells starting =, +, -, @, tab or CR are prefixed.
-    for text in ("=1+1", "+1", "-1+2", "@SUM(A1)", "\t=x", "\r=x"):
+    for text in ("=1+1", "+1", "-1+2", "@SUM(A1)", "\tx", "\rx"):
         assert risky(text) and neutralise(text) == "'" + text
     assert neutralise("Fuse-link 100 A") == "Fuse-link 100 A"
+    # The same after a list separator (',' ';' '|' tab) or a line break: a reader whose locale separates on ';'
+    # would otherwise start a new cell with the formula.
+    for text, safe in (("Line 3;=cmd|' /C calc'!A0", "Line 3;'=cmd|' /C calc'!A0"), ("a, +1", "a, '+1"),
+                       ("a\t=x", "a\t'=x"), ("a\r\n@x", "a\r\n'@x"), ("\t=x", "'\t'=x"), ("a|-1", "a|'-1")):
+        assert risky(text) and neutralise(text) == safe
+    assert not risky("3 × 50 kvar; delta; 480 V") and not risky("Fuse-link 100 A, time-delay")
+
+
+def test_csv_text_cells_are_quoted_so_no_separator_splits_them(size):
+    """Read as a ';'-separated file (a European spreadsheet's locale), no cell starts a formula."""
+    result = size({"banks": [{"name": "Line 3;=cmd|' /C calc'!A0", "supply": {"voltage_v": 480, "frequency_hz": 60},
+                              "need": {"kvar": 100}}]})
+    text = bom_csv(result).decode("utf-8-sig")
+    for separator in (",", ";", "\t"):
+        for row in csv.reader(io.StringIO(text), delimiter=separator):
+            assert not any(cell.lstrip(" ").startswith(("=", "+", "-", "@")) for cell in row), row
 
 
 def test_hostile_bank_name_never_becomes_a_formula(size):

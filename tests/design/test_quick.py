@@ -143,7 +143,11 @@ def test_loads_file_errors_name_the_file(write_yaml, tmp_path):
     ({"kw": 0, "pf_present": 0.8, "pf_target": 0.9}, "kw", "must be in (0, 1e+07]"),
     ({"kw": float("nan"), "pf_present": 0.8, "pf_target": 0.9}, "kw", "must be a finite number"),
     ({"kw": 100, "pf_present": 1.2, "pf_target": 0.9}, "pf_present", "must be in (0, 1]"),
-    ({"kw": 100, "pf_present": 0.8, "pf_target": 0.9, "voltage_v": -480}, "voltage_v", "must be in (0"),
+    ({"kw": 100, "pf_present": 0.8, "pf_target": 0.9, "voltage_v": -480}, "voltage_v", "must be in [1"),
+    # regression values: below 1 V and 1 Hz, V² and ω underflow and the figures stop being numbers
+    ({"kw": 100, "pf_present": 0.8, "pf_target": 0.9, "voltage_v": 1e-300}, "voltage_v", "must be in [1, 100000]"),
+    ({"kw": 100, "pf_present": 0.8, "pf_target": 0.9, "frequency_hz": 1e-300}, "frequency_hz", "must be in [1, "),
+    ({"kw": 100, "pf_present": 1e-300, "pf_target": 0.9}, "pf_present", "the quick figure goes to 10,000,000 kvar"),
     ({"kw": 100, "pf_present": 0.8, "pf_target": 0.9, "frequency_hz": float("inf")}, "frequency_hz", "finite"),
 ])
 def test_bad_options(options, name, problem):
