@@ -13,6 +13,7 @@
 from __future__ import annotations
 
 import errno
+import io
 import os
 import signal
 import sys
@@ -92,6 +93,58 @@ def _quiet_stdout() -> None:
         pass
 
 
+class _WholeWrites(io.RawIOBase):
+    """The standard output's file descriptor, written whole or with an error.
+
+    Python's own buffered stream keeps quiet when the system takes part of a write (a disk that fills up
+    mid-write): the rest stays in its buffer and is lost at exit with exit code 0. Here a short write is
+    followed by another, which then fails with the disk's error.
+    """
+
+    def __init__(self, fd: int) -> None:
+        super().__init__()
+        self._fd = fd
+
+    def writable(self) -> bool:
+        return True
+
+    def fileno(self) -> int:
+        return self._fd
+
+    def write(self, data) -> int:
+        view = memoryview(data).cast("B")
+        total = 0
+        while total < len(view):
+            total += os.write(self._fd, view[total:])
+        return total
+
+
+@contextmanager
+def whole_stdout():
+    """Within the block, the process's standard output (when it is one) reports a short write as an error."""
+    stream = sys.stdout
+    try:
+        usable = stream is not None and stream is sys.__stdout__ and stream.fileno() >= 0
+    except (OSError, ValueError, AttributeError):
+        usable = False
+    if not usable:
+        yield
+        return
+    stream.flush()
+    wrapper = io.TextIOWrapper(io.BufferedWriter(_WholeWrites(stream.fileno())), encoding=stream.encoding,
+                               errors=stream.errors, line_buffering=stream.line_buffering, write_through=False)
+    sys.stdout = wrapper
+    try:
+        yield
+        wrapper.flush()
+    finally:
+        sys.stdout = stream
+        try:
+            wrapper.detach()  # the descriptor stays open: it is the process's
+        except (OSError, ValueError):
+            pass
+
+
 def _flush_stdout() -> None:
     stream = sys.stdout
     if stream is not None:
@@ -105,10 +158,10 @@ def run_guarded(body: Callable[[], int], say: Callable[[str], None], debug: bool
     error propagates with its traceback.
     """
     try:
-        with stop_on_signals():
+        with stop_on_signals(), whole_stdout():
             code = body()
             _flush_stdout()
-            return code
+        return code
     except Stopped as stop:
         say(f"stopped ({signal.Signals(stop.signum).name}); temporary files removed, the output folder holds the "
             "previous documents or the new ones, whole")
