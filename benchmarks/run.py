@@ -9,7 +9,10 @@
    (goal: at most 15 s on 2 cores, the largest process at most 250 MB), and how the cost of each grows from
    125 to 250 to 500 banks (goal: linear);
 6. the harmonic study of a 12-step bank, every distinct step combination, plain (with the search for a tuning
-   that passes) and detuned (three tolerance corners): CPU time of the study alone (goal: under 200 ms).
+   that passes) and detuned (three tolerance corners): CPU time of the study alone (goal: under 200 ms);
+7. limits: a need worked out to about a million MVA refused (goal: no slower than sizing 300 kvar), a bank sized
+   from a 20,000-row unit table (goal: within 2 s of sizing it from the built-in table; peak memory under
+   300 MB).
 
 The commands under test and their references run in alternation (A, B, A, B, ...), so that a machine that
 slows down or speeds up during the run affects both alike; each figure is the median of the runs. The machine
@@ -337,6 +340,35 @@ def bench_survey(runs: int, work: Path) -> list[Row]:
                 "bounded (≤ 500 MB)", peak <= 500.0)]
 
 
+def bench_limits(runs: int, work: Path) -> list[Row]:
+    from bigtable import HUGE_NEED, big_units_table
+
+    spec = Path(__file__).parents[1] / "tests" / "data" / "specs" / "line3_300kvar.yaml"
+    huge = work / "huge-need.yaml"
+    huge.write_text(spec.read_text(encoding="utf-8").replace("need: {kvar: 300}", HUGE_NEED), encoding="utf-8")
+
+    def refused(command: list[str]) -> float:
+        start = time.perf_counter()
+        done = subprocess.run(command, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, check=False)
+        if done.returncode != 2:
+            raise SystemExit(f"expected a refusal (exit 2), got {done.returncode}: {done.stderr.decode()}")
+        return time.perf_counter() - start
+
+    refusal = statistics.median(refused([*BANKBUILD, "size", str(huge), "--json"]) for _ in range(runs))
+    tables = big_units_table(work / "big-tables", 20_000)
+    plain, big = side_by_side([*BANKBUILD, "size", str(spec), "--json"],
+                              [*BANKBUILD, "size", str(spec), "--json", "--catalogs", str(tables)], runs, warmup=0)
+    probe = ("import resource, subprocess, sys; subprocess.run(sys.argv[1:], stdout=subprocess.DEVNULL, check=True); "
+             "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss)")  # the run's own peak (Linux: kB)
+    peak_mb = int(subprocess.run([PYTHON, "-c", probe, *BANKBUILD, "size", str(spec), "--json", "--catalogs",
+                                  str(tables)], capture_output=True, text=True, check=True).stdout) / 1024
+    return [Row("huge derived need refused", f"{refusal * 1000:.0f} ms", f"300 kvar sized {plain * 1000:.0f} ms",
+                f"{(refusal - plain) * 1000:+.0f} ms", "≤ +0 ms (no work done)", refusal <= plain),
+            Row("`size --json`, 20,000-row unit table", f"{big * 1000:.0f} ms", f"built-in table {plain * 1000:.0f} ms",
+                f"+{(big - plain) * 1000:.0f} ms", "≤ +2000 ms", big - plain <= 2.0),
+            Row("peak memory, 20,000-row unit table", f"{peak_mb:.0f} MB", "", "", "< 300 MB", peak_mb < 300)]
+
+
 def markdown(rows: list[Row], where: str) -> str:
     lines = ["| what | measured | beside it | result | goal | met |", "|---|---|---|---|---|---|"]
     for r in rows:
@@ -359,7 +391,8 @@ def main(argv: list[str] | None = None) -> int:
         steps = [("start-up", lambda: [bench_startup(runs)]), ("demo", lambda: [bench_demo(runs, work)]),
                  ("selection", bench_selection), ("harmonic study", lambda: bench_harmonics(runs)),
                  ("survey", lambda: bench_survey(min(runs, 3), work)),
-                 ("plant", lambda: bench_plant(runs, work, with_documents=not args.quick))]
+                 ("plant", lambda: bench_plant(runs, work, with_documents=not args.quick)),
+                 ("limits", lambda: bench_limits(runs, work))]
         for label, step in steps:
             print(f"… {label}", file=sys.stderr, flush=True)
             rows += step()

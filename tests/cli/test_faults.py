@@ -24,6 +24,9 @@ from bankbuild.cli.app import run
 from bankbuild.files import FileSet
 from bankbuild.tables.load import MAX_TABLE_ROWS, builtin_dir
 
+sys.path.insert(0, str(Path(__file__).parents[2] / "benchmarks"))
+from bigtable import HUGE_NEED, big_units_table  # noqa: E402
+
 SPECS = Path(__file__).parents[1] / "data" / "specs"
 SPEC = SPECS / "line3_300kvar.yaml"
 SCRIPT = shutil.which("bankbuild", path=str(Path(sys.executable).parent))
@@ -225,8 +228,7 @@ def test_an_unexpected_error_is_one_line_and_debug_shows_the_traceback(tmp_path,
 
 def test_a_huge_derived_need_is_refused_with_its_derivation(tmp_path):
     spec = tmp_path / "huge.yaml"
-    need = "need: {kw: 1000, pf_present: 0.000001, pf_target: 0.95}"
-    spec.write_text(SPEC.read_text().replace("need: {kvar: 300}", need))
+    spec.write_text(SPEC.read_text().replace("need: {kvar: 300}", HUGE_NEED))
     line = one_error_line(bankbuild("size", spec, "--json", timeout=60))
     assert "banks[0] (Line 3).need: kw 1,000 at pf_present 1e-06 to pf_target" in line
     assert "at most 100,000 kvar can be sized (as for need.kvar)" in line
@@ -241,27 +243,9 @@ def test_kvar_with_a_vanishing_pf_is_refused_not_infinity():
     assert "--voltage-v" in line
 
 
-def _big_units_table(folder: Path, rows: int) -> None:
-    """The built-in tables, with the units table grown to ``rows`` rows by 1000 V 60 Hz units (after the real
-    ones in the table's order), which a 480 V bank's search must look past."""
-    shutil.copytree(builtin_dir(), folder)
-    path = folder / "capacitor_units.csv"
-    lines = path.read_text().splitlines()
-    header_at = next(i for i, line in enumerate(lines) if line and not line.startswith("#"))
-    header, data = lines[header_at].split(","), lines[header_at + 1:]
-    template = data[0].split(",")
-    extra = []
-    for k in range(rows - len(data)):
-        cells = dict(zip(header, template, strict=True))
-        cells.update({"unit_id": f"FILL-{k:06d}", "rated_voltage_v": "1000", "rated_frequency_hz": "60",
-                      "rated_kvar": f"{0.1 + k * 0.02:.2f}", "description": "filler"})
-        extra.append(",".join(cells[h] for h in header))
-    path.write_text("\n".join(lines[:header_at + 1] + data + extra) + "\n")
-
-
 def test_a_twenty_thousand_row_table_sizes_in_bounded_memory(tmp_path):
     tables = tmp_path / "tables"
-    _big_units_table(tables, MAX_TABLE_ROWS)
+    big_units_table(tables, MAX_TABLE_ROWS)
     proc = bankbuild("size", SPEC, "--json", "--catalogs", tables, timeout=300)
     assert proc.returncode == 0, proc.stderr
     assert json.loads(proc.stdout)["banks"][0]["delivered_kvar"] >= 300 - 1e-6
@@ -271,6 +255,33 @@ def test_a_twenty_thousand_row_table_sizes_in_bounded_memory(tmp_path):
 
 def test_a_table_over_the_row_limit_is_refused(tmp_path):
     tables = tmp_path / "tables"
-    _big_units_table(tables, MAX_TABLE_ROWS + 1)
+    big_units_table(tables, MAX_TABLE_ROWS + 1)
     line = one_error_line(bankbuild("size", SPEC, "--json", "--catalogs", tables, timeout=120))
     assert f"more than {MAX_TABLE_ROWS:,} data rows" in line
+
+
+# --- smaller items --------------------------------------------------------------------------------------------
+
+def test_an_over_long_out_path_keeps_its_problem_in_the_message(tmp_path):
+    out = tmp_path / "/".join(["d" * 200] * 25)  # about 5,000 bytes: over the system's 4,096
+    line = one_error_line(bankbuild("size", SPEC, "--out", out))
+    assert line.endswith("the system allows at most 4,095"), line
+    assert "…" in line  # the middle of the path gave way, not the problem
+
+
+def test_a_file_that_is_no_spec_is_refused_without_quoting_it(tmp_path):
+    other = tmp_path / "settings.yaml"
+    other.write_text("api_token: s3cr3t-value-never-echoed\nhost: example.invalid\n")
+    line = one_error_line(bankbuild("size", other, "--json"))
+    assert "not a bankbuild spec" in line
+    assert "s3cr3t" not in line and "example.invalid" not in line
+
+
+def test_a_table_with_lone_cr_line_endings_is_read(tmp_path):
+    tables = tmp_path / "tables"
+    shutil.copytree(builtin_dir(), tables)
+    path = tables / "capacitor_units.csv"
+    path.write_bytes(path.read_bytes().replace(b"\r\n", b"\n").replace(b"\n", b"\r"))
+    proc = bankbuild("catalog", "check", tables)
+    assert proc.returncode == 0, proc.stderr
+    assert "ok  capacitor_units.csv" in proc.stdout

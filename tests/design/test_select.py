@@ -79,6 +79,24 @@ def test_best_combination_prefers_larger_units_on_a_tie():
     assert best_combination([25, 50, 75], 100) == (1, 0, 1)
 
 
+def test_best_combination_works_on_counts_not_units():
+    # A million units of 50 kvar: the answer is arithmetic on the count (no loop per unit, no state per unit).
+    assert best_combination([50.0], 50e6) == (1_000_000,)
+    # 50,000.01 kvar from 10 and 50 kvar units: 1,001 units; 1,000 × 50 + 1 × 10 is the least overshoot.
+    assert best_combination([10.0, 50.0], 50_000.01) == (1, 1000)
+
+
+def test_best_combination_on_a_long_table_reaches_the_target_with_the_fewest_units():
+    # 20,000 sizes (the table's row limit), 0.02 kvar apart: the search is bounded by its candidate budget, and
+    # whatever it keeps still reaches the target with the fewest units.
+    sizes = [round(0.1 + k * 0.02, 2) for k in range(20_000)]
+    target = 1234.567
+    counts = best_combination(sizes, target)
+    total = sum(c * s for c, s in zip(counts, sizes, strict=True))
+    assert sum(counts) == math.ceil(target / max(sizes))
+    assert target - 1e-9 <= total < target + max(sizes)
+
+
 def test_best_combination_edge_cases():
     assert best_combination([], 10) is None
     assert best_combination([10, 20], 0) == (0, 0)
