@@ -285,3 +285,16 @@ def test_a_table_with_lone_cr_line_endings_is_read(tmp_path):
     proc = bankbuild("catalog", "check", tables)
     assert proc.returncode == 0, proc.stderr
     assert "ok  capacitor_units.csv" in proc.stdout
+
+
+def test_a_link_loop_among_the_spec_s_tables_is_one_line(tmp_path):
+    spec = tmp_path / "spec.yaml"
+    spec.write_text("catalogs: tables\n" + SPEC.read_text())
+    (tmp_path / "tables").mkdir()
+    (tmp_path / "tables" / "capacitor_units.csv").symlink_to("capacitor_units.csv")  # a link to itself
+    line = one_error_line(bankbuild("size", spec, "--json"))
+    assert "catalogs: capacitor_units.csv in 'tables' is a loop of links, not a table" in line
+    shutil.rmtree(tmp_path / "tables")
+    (tmp_path / "tables").symlink_to("tables")  # the folder itself
+    line = one_error_line(bankbuild("size", spec, "--json"))
+    assert "catalogs: 'tables' is a loop of links, not a folder" in line
