@@ -71,6 +71,19 @@ def test_a_worker_that_dies_is_replaced_by_this_process() -> None:
     assert set(out) == {name for name, _ in writers}
 
 
+@needs_workers
+def test_light_documents_share_one_worker() -> None:
+    """A JSON file and a one-line diagram per bank cost less than starting a process each: one worker renders all
+    of them (a process per diagram made a 500-bank plant fork 500 processes)."""
+    svgs = [(f"one-line-{n}.svg", pid_writer(f"svg{n}")) for n in range(1, 41)]
+    out = render_documents(plant(PARALLEL_MIN_BANKS), [*WRITERS, *svgs])
+    assert [name for name, _ in out] == [name for name, _ in [*WRITERS, *svgs]]
+    pids = {name: data.decode().split(":")[2] for name, data in out}
+    light = {pids[name] for name in pids if not name.endswith((".pdf", ".xlsx"))}
+    assert len(light) == 1 and PARENT not in {int(p) for p in light}
+    assert pids["protection-worksheet.pdf"] not in light
+
+
 def test_heaviest_first_and_worker_count() -> None:
     assert render.heaviest_first(WRITERS) == [3, 1, 2, 0]
     assert render.worker_count(0, 6) == 1
