@@ -15,7 +15,6 @@ from bankbuild.reports.pdf_common import (
     INK,
     PASS_GREEN,
     PM,
-    RULE_GREY,
     SHADE,
     P,
     para_text,
@@ -28,17 +27,38 @@ from bankbuild.results.sizing import ProjectResult
 
 @dataclass(frozen=True)
 class CellText:
-    """Literal text for a table cell: :func:`grid` draws it as a plain string when it fits on one line (fast),
-    else as a wrapping Paragraph."""
+    """Literal text for a table cell, drawn as plain lines by :func:`grid` (a Paragraph only where plain lines
+    would be drawn differently). ``lead`` is a bold lead-in on the first line (a band row's name); ``note`` is
+    set beneath the text in small italics, in ``note_colour`` (the text's colour when None)."""
 
     text: str
     style: str = "cell"
     colour: tuple[float, float, float] | None = None
+    lead: str = ""
+    note: str = ""
+    note_colour: tuple[float, float, float] | None = None
+
+    def markup(self) -> str:
+        """The same cell as Paragraph markup (for a cell plain lines cannot draw)."""
+        text = para_text(self.text)
+        if self.lead:
+            text = f"<b>{para_text(self.lead)}</b>{text}"
+        if self.note:
+            colour = "" if self.note_colour is None else ' color="#{}"'.format(
+                "".join(f"{round(c * 255):02x}" for c in self.note_colour))
+            text += f'<br/><font name="{FONT}" size="{NOTE_SIZE:g}"{colour}><i>{para_text(self.note)}</i></font>'
+        return text
 
 
-def C(text: object, style: str = "cell", colour: tuple[float, float, float] | None = None) -> CellText:  # noqa: N802
-    """A table cell of literal ``text`` in one of the styles of :func:`~.pdf_common.styles`."""
-    return CellText(plain_text(text), style, colour)
+NOTE_SIZE = 6.6
+
+
+def C(text: object, style: str = "cell", colour: tuple[float, float, float] | None = None, *,  # noqa: N802
+      lead: str = "", note: str = "", note_colour: tuple[float, float, float] | None = None) -> CellText:
+    """A table cell of literal ``text`` in one of the styles of :func:`~.pdf_common.styles` (see
+    :class:`CellText` for ``lead`` and ``note``)."""
+    return CellText(plain_text(text), style, colour, plain_text(lead) if lead else "",
+                    plain_text(note) if note else "", note_colour)
 
 
 def verdict(ok: bool, passed: str = "pass", failed: str = "FLAG") -> CellText:
@@ -87,106 +107,113 @@ def wrap_lines(text: str, font: str, size: float, width: float) -> list[str] | N
     return lines
 
 
-class _GridStyle:
-    """The table-wide text defaults of :func:`grid` (the ``cell`` style) and the commands for cells that differ."""
-
-    def __init__(self):
-        from reportlab.lib.colors import Color, black
-
-        base = styles()["cell"]
-        self.base = base
-        self.ink = Color(*INK)
-        self.black = black
-        self.colours: dict = {}
-        self.defaults = [("FONTNAME", (0, 0), (-1, -1), base.fontName), ("FONTSIZE", (0, 0), (-1, -1), base.fontSize),
-                         ("LEADING", (0, 0), (-1, -1), base.leading), ("TEXTCOLOR", (0, 0), (-1, -1), self.ink)]
-
-    def colour(self, rgb):
-        from reportlab.lib.colors import Color
-
-        if rgb not in self.colours:
-            self.colours[rgb] = Color(*rgb)
-        return self.colours[rgb]
-
-
-def _cell(cell, row: int, col: int, width: float, cmds: list, look: _GridStyle):
-    """A cell as the table draws it: CellText as a plain string (its lines broken here, which is much faster
-    than a Paragraph per cell), with commands only where its style differs from the table's defaults."""
-    at = (col, row), (col, row)
-    if isinstance(cell, str):  # a bare string keeps reportlab's own cell defaults (an empty cell is 12 pt high)
-        cmds += [("LEADING", *at, 12), ("TEXTCOLOR", *at, look.black)]
-        return cell
-    if not isinstance(cell, CellText):
-        return cell
+def _lines(text: str, font: str, size: float, width: float) -> list[str] | None:
+    """The lines of a cell's text in its column (the whole text when it fits, as a Table draws a string)."""
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
+    if stringWidth(text, font, size) <= width - 6.5:
+        return [text]
+    return wrap_lines(text, font, size, width - 6)
+
+
+def _cell(cell, width: float):
+    """A cell as :mod:`.pdf_grid` draws it: CellText as plain lines (broken here), a bare string in the table's
+    defaults (an empty filler), a Paragraph where plain lines would be drawn differently; flowables as they are."""
+    from bankbuild.reports.pdf_grid import BARE_LEADING, BARE_SIZE, Run, TextCell, plain_cell
+
+    if isinstance(cell, str):
+        return plain_cell(cell.split("\n"), FONT, BARE_SIZE, BARE_LEADING, (0.0, 0.0, 0.0))
+    if not isinstance(cell, CellText):
+        return cell
     style = styles()[cell.style]
-    if stringWidth(cell.text, style.fontName, style.fontSize) <= width - 6.5:
-        lines = [cell.text]  # fits as it is
-    else:
-        lines = wrap_lines(cell.text, style.fontName, style.fontSize, width - 6)
+    font, size, leading = style.fontName, style.fontSize, style.leading
+    colour = cell.colour if cell.colour is not None else INK
+    if cell.lead:  # a bold lead-in: drawn plain when the whole line fits
+        from reportlab.pdfbase.pdfmetrics import stringWidth
+
+        bold = styles()["cell_bold"].fontName
+        if not cell.note and stringWidth(cell.lead, bold, size) + stringWidth(cell.text, font, size) <= width - 6.5:
+            return TextCell([[Run(bold, size, cell.lead), Run(font, size, cell.text)]], leading, size, [colour])
+        return paragraph_class()(cell.markup(), style)
+    lines = _lines(cell.text, font, size, width)
     if lines is None:  # a word wider than the column: the Paragraph splits it
         if cell.colour is not None:
-            style = style.clone(f"{style.name}-c", textColor=look.colour(cell.colour))
-        return paragraph_class()(para_text(cell.text), style)
-    base = look.base
-    if style.fontName != base.fontName:
-        cmds.append(("FONTNAME", *at, style.fontName))
-    if style.fontSize != base.fontSize:
-        cmds.append(("FONTSIZE", *at, style.fontSize))
-    if style.leading != base.leading:
-        cmds.append(("LEADING", *at, style.leading))
-    if cell.colour is not None:
-        cmds.append(("TEXTCOLOR", *at, look.colour(cell.colour)))
-    if style.alignment == 2:
-        cmds.append(("ALIGN", *at, "RIGHT"))
-    return "\n".join(lines)
+            style = style.clone(f"{style.name}-c", textColor=look_colour(cell.colour))
+        return paragraph_class()(cell.markup(), style)
+    if not cell.note:
+        return plain_cell(lines, font, size, leading, colour, right=style.alignment == 2)
+    italic = styles()["note"].fontName
+    note_lines = wrap_lines(cell.note, italic, NOTE_SIZE, width - 6)
+    if note_lines is None or style.alignment == 2:
+        return paragraph_class()(cell.markup(), style)
+    note_colour = cell.note_colour if cell.note_colour is not None else colour
+    return TextCell([[Run(font, size, line)] for line in lines] + [[Run(italic, NOTE_SIZE, n)] for n in note_lines],
+                    leading, size, [colour] * len(lines) + [note_colour] * len(note_lines))
+
+
+def look_colour(rgb):
+    """A reportlab colour of ``rgb``."""
+    from reportlab.lib.colors import Color
+
+    return Color(*rgb)
+
+
+ZEBRA = (0.975, 0.98, 0.985)
+BAND = (0.84, 0.88, 0.92)
 
 
 def grid(rows: Sequence[Sequence], widths: Sequence[float], header_rows: int = 1, zebra: bool = True,
          spans: Sequence[int] = (), row_heights: Sequence[float | None] | None = None,
-         joined: Sequence[tuple[int, int, int]] = ()):
+         joined: Sequence[tuple[int, int, int]] = (), middle_from: int | None = None,
+         underlines: Sequence[tuple[int, int, int, int, float]] = ()):
     """A ruled table whose header rows repeat on every page; ``spans`` are rows drawn as full-width bands;
-    ``joined`` are cells spanning columns, each ``(row, first column, last column)``.
+    ``joined`` are cells spanning columns, each ``(row, first column, last column)``; rows from ``middle_from``
+    on are centred vertically; ``underlines`` are rules under cells (see :func:`.pdf_grid.grid_flowable`).
 
-    Cells are flowables, or :class:`CellText` (drawn as plain strings, broken into lines here: much faster than
-    a Paragraph per cell, and laid out the same).
+    Cells are flowables, or :class:`CellText` (drawn as plain lines, broken here: much faster than a Paragraph
+    per cell, and laid out the same).
     """
-    from reportlab.lib.colors import Color
-    from reportlab.platypus import Table, TableStyle
+    from bankbuild.reports.pdf_grid import Row, grid_flowable
 
-    look = _GridStyle()
-    cmds = [
-        ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        *look.defaults,
-        ("LEFTPADDING", (0, 0), (-1, -1), 3),
-        ("RIGHTPADDING", (0, 0), (-1, -1), 3),
-        ("TOPPADDING", (0, 0), (-1, -1), 2),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 2.5),
-        ("LINEBELOW", (0, 0), (-1, -1), 0.25, Color(*RULE_GREY)),
-        ("BOX", (0, 0), (-1, -1), 0.6, look.ink),
-    ]
-    if header_rows:
-        cmds += [("BACKGROUND", (0, 0), (-1, header_rows - 1), Color(*SHADE)),
-                 ("LINEBELOW", (0, header_rows - 1), (-1, header_rows - 1), 0.8, look.ink)]
-    if zebra:
-        for r in range(header_rows + 1, len(rows), 2):
-            if r not in spans:
-                cmds.append(("BACKGROUND", (0, r), (-1, r), Color(0.975, 0.98, 0.985)))
-    for r in spans:
-        cmds += [("SPAN", (0, r), (-1, r)), ("BACKGROUND", (0, r), (-1, r), Color(0.84, 0.88, 0.92)),
-                 ("LINEABOVE", (0, r), (-1, r), 0.8, look.ink)]
-    cell_widths = {(r, 0): sum(widths) for r in spans}
-    for r, first, last in joined:
-        cmds.append(("SPAN", (first, r), (last, r)))
-        cell_widths[r, first] = sum(widths[first:last + 1])
-    data = []
+    lefts = [0.0]
+    for w in widths:
+        lefts.append(lefts[-1] + w)
+    total = lefts[-1]
+    span_rows = set(spans)
+    joins = {r: (first, last) for r, first, last in joined}
+    prepared = []
     for r, row in enumerate(rows):
-        data.append([_cell(cell, r, c, cell_widths.get((r, c), widths[c]), cmds, look) for c, cell in enumerate(row)])
-    table = Table(data, colWidths=list(widths), repeatRows=header_rows, hAlign="LEFT",
-                  rowHeights=list(row_heights) if row_heights else None)
-    table.setStyle(TableStyle(cmds))
-    return table
+        cells, cell_lefts, cell_widths = [], [], []
+        join = joins.get(r)
+        for c, cell in enumerate(row):
+            width = widths[c]
+            covered = False
+            if r in span_rows:
+                width, covered = (total, False) if c == 0 else (widths[c], True)
+            elif join is not None and join[0] <= c <= join[1]:
+                width, covered = (lefts[join[1] + 1] - lefts[c], False) if c == join[0] else (widths[c], True)
+            if covered:  # a spanning cell covers it: only a bare string filler still counts in the row height
+                cells.append(_cell(cell, width) if isinstance(cell, str) else None)
+                covered_at = len(cells) - 1
+                cell_lefts.append(lefts[c])
+                cell_widths.append(width)
+                if cells[covered_at] is not None:
+                    cells[covered_at].lines = [[]] * len(cells[covered_at].lines)  # measured, never drawn
+                continue
+            cells.append(_cell(cell, width))
+            cell_lefts.append(lefts[c])
+            cell_widths.append(width)
+        shade = None
+        if r < header_rows:
+            shade = SHADE
+        elif r in span_rows:
+            shade = BAND
+        elif zebra and r >= header_rows + 1 and (r - header_rows - 1) % 2 == 0:
+            shade = ZEBRA
+        fixed = row_heights[r] if row_heights and r < len(row_heights) else None
+        prepared.append(Row(cells, cell_lefts, cell_widths, shade, 0.8 if r in span_rows else 0.0,
+                            middle_from is not None and r >= middle_from, fixed))
+    return grid_flowable(prepared, widths, header_rows, underlines)
 
 
 def key_values(pairs: Sequence[tuple[str, object]], width: float, key_share: float = 0.28):

@@ -18,7 +18,6 @@ from bankbuild.reports.pdf_blocks import (
 )
 from bankbuild.reports.pdf_common import (
     FLAG_RED,
-    PM,
     Deferred,
     Numbering,
     P,
@@ -27,7 +26,6 @@ from bankbuild.reports.pdf_common import (
     frame_for,
     gnum,
     num,
-    para_text,
 )
 from bankbuild.reports.tables import total_text
 from bankbuild.results.sizing import BankResult, BomLine, BomTotal, ProjectResult
@@ -135,13 +133,12 @@ def cell_notes(notes: str, limit: int = NOTES_MAX) -> str:
     return "; ".join(kept + ["… (in full in bill-of-materials.csv)"])
 
 
+NOTE_GREY = (0x4A / 255, 0x50 / 255, 0x58 / 255)
+
+
 def description_cell(line: BomLine):
     """Description and ratings, with the line's notes beneath in small italics."""
-    if not line.notes:
-        return C(line.description)
-    notes = para_text(cell_notes(line.notes))
-    return PM(f'{para_text(line.description)}<br/><font size="6.6" color="#4a5058"><i>{notes}'
-              "</i></font>")
+    return C(line.description, note=cell_notes(line.notes) if line.notes else "", note_colour=NOTE_GREY)
 
 
 def money(value: float | None) -> str:

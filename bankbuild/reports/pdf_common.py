@@ -256,8 +256,11 @@ def styles() -> dict:
 
 
 def P(text: object, style: str = "cell"):  # noqa: N802 - reads like the flowable it makes
-    """A Paragraph of literal ``text`` (escaped) in one of :func:`styles`."""
-    return paragraph_class()(para_text(text), styles()[style])
+    """A paragraph of literal ``text`` in one of :func:`styles`: drawn as plain lines (a Paragraph only where
+    those would be drawn differently; see :func:`.pdf_grid.text_block`)."""
+    from bankbuild.reports.pdf_grid import text_block
+
+    return text_block(plain_text(text), style)
 
 
 def PM(markup: str, style: str = "cell"):  # noqa: N802

@@ -24,9 +24,6 @@ from bankbuild.reports.pdf_blocks import (
 from bankbuild.reports.pdf_bom import detuning_text, need_text, steps_text, supply_text
 from bankbuild.reports.pdf_common import (
     CAUTION_EDGE,
-    FONT,
-    INK,
-    PM,
     RULE_GREY,
     Deferred,
     Numbering,
@@ -36,7 +33,6 @@ from bankbuild.reports.pdf_common import (
     frame_for,
     gnum,
     num,
-    para_text,
 )
 from bankbuild.reports.pdf_pictures import oneline_block, staircase_block, triangle_block
 from bankbuild.reports.pdf_worksheet_assembly import assembly_sections
@@ -171,8 +167,7 @@ def detuning_table(bank: BankResult, width: float):
 def sizing_row(line: SizingLine) -> list:
     """One worksheet row from one sizing line."""
     text = chosen_text(line)
-    chosen = PM(f'{para_text(text)}<br/><font name="{FONT}" size="6.6"><i>{para_text(line.note)}</i></font>'
-                ) if line.note else C(text)
+    chosen = C(text, note=line.note)
     return [C(line.item, "cell_bold"), C(line.formula), C(f"× {gnum(line.factor)}"), C(line.rule, "small"),
             C(num(line.required_a, 1, "A"), "cell_right"), chosen, verdict(line.ok)]
 
@@ -207,15 +202,15 @@ def sizing_table(bank: BankResult, width: float):
     bands = []
     main = bank.main
     bands.append(len(rows))
-    rows.append([PM(f"<b>Main incomer</b> — {para_text(design_current_text(main.rated_current_a, bank.line_current_a, main.design_current_a))}"),  # noqa: E501
-                 "", "", "", "", "", ""])
+    rows.append([C(f" — {design_current_text(main.rated_current_a, bank.line_current_a, main.design_current_a)}",
+                   lead="Main incomer"), "", "", "", "", "", ""])
     rows += [sizing_row(line) for line in main.sizing]
     for step in bank.steps:
         bands.append(len(rows))
         design = max(step.rated_current_a, step.line_current_a)
-        rows.append([PM(f"<b>Step {step.index}</b> ({para_text(num(step.kvar, 1, 'kvar'))}) — "
-                        f"{para_text(design_current_text(step.rated_current_a, step.line_current_a, design))}"),
-                     "", "", "", "", "", ""])
+        rows.append([C(f" ({num(step.kvar, 1, 'kvar')}) — "
+                       f"{design_current_text(step.rated_current_a, step.line_current_a, design)}",
+                       lead=f"Step {step.index}"), "", "", "", "", "", ""])
         rows += [sizing_row(line) for line in step.sizing]
     return grid(rows, [width * s for s in SIZING_SHARES], spans=bands)
 
@@ -276,17 +271,14 @@ def bank_section(index: int, total: int, bank: BankResult, result: ProjectResult
 
 def sign_off(result: ProjectResult, width: float):
     """Prepared / checked / approved, each with a name, a signature line and a date line."""
-    from reportlab.lib.colors import Color
-    from reportlab.platypus import KeepTogether, TableStyle
+    from reportlab.platypus import KeepTogether
 
     project = result.project
     rows = [[C(h, "head") for h in ("Role", "Name", "Signature", "Date")]]
     for role, key in (("Prepared by", "prepared_by"), ("Checked by", "checked_by"), ("Approved by", "")):
         rows.append([C(role, "cell_bold"), C(project.get(key, "") if key else ""), "", ""])
     table = grid(rows, [width * s for s in (0.16, 0.34, 0.32, 0.18)], zebra=False,
-                 row_heights=[None] + [34.0] * 3)
-    table.setStyle(TableStyle([("LINEBELOW", (2, 1), (3, -1), 0.6, Color(*INK)),
-                               ("VALIGN", (0, 1), (-1, -1), "MIDDLE")]))
+                 row_heights=[None] + [34.0] * 3, middle_from=1, underlines=[(2, 1, 3, -1, 0.6)])
     return KeepTogether([P("Sign-off", "h2"),
                          P("Signatures confirm that the figures were checked against the local code and the "
                            "equipment makers' data; they are not made by this program.", "note"), table])

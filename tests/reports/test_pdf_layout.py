@@ -52,6 +52,6 @@ def test_grid_draws_wrapped_text_as_plain_lines():
     register_fonts()
     long = "NEC 240.4(B)/(D) applied conservatively (240.4(G) refers capacitor circuits to 460.8(B): verify)"
     table = grid([[C("Head", "head"), C("Text", "head")], [C("Fuse", "cell_bold"), C(long)]], [60, 120])
-    cell = table._cellvalues[1][1]
+    cell = table.cell_text(1, 1)
     assert isinstance(cell, str) and "\n" in cell  # broken here, not a Paragraph
     assert cell.replace("\n", " ") == long
