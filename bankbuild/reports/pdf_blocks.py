@@ -69,23 +69,36 @@ def verdict(ok: bool, passed: str = "pass", failed: str = "FLAG") -> CellText:
 def wrap_lines(text: str, font: str, size: float, width: float) -> list[str] | None:
     """``text`` broken into lines of at most ``width`` points, as a reportlab Paragraph breaks plain text; None
     where a Paragraph would draw a line differently from a plain string: a word wider than a line (it splits
-    the word) or a line that fits only with its spaces narrowed.
-
-    The same greedy rule as reportlab's: words split on white space, a word goes on the line while the line
-    stays within the width plus 5 % of a space per word already on it (its ``spaceShrinkage``); a line over the
-    width is then drawn with narrower spaces.
+    the word) or a line that fits only with its spaces narrowed (see :func:`wrap_spaced` for those).
 
     >>> wrap_lines("one two three", "Helvetica", 10, 40)
     ['one two', 'three']
     >>> wrap_lines("unbreakable", "Helvetica", 10, 20) is None
     True
     """
+    lines = wrap_spaced(text, font, size, width)
+    if lines is None or any(extra < 0 for _, extra in lines):
+        return None
+    return [line for line, _ in lines]
+
+
+def wrap_spaced(text: str, font: str, size: float, width: float) -> list[tuple[str, float]] | None:
+    """``text`` broken into lines as a reportlab Paragraph breaks plain text, each with its spare width [pt]:
+    negative where the line fits only with its spaces narrowed (a Paragraph then sets the word spacing to the
+    spare width over the spaces); None where a word is wider than a line (a Paragraph splits the word).
+
+    The same greedy rule as reportlab's: words split on white space, a word goes on the line while the line
+    stays within the width plus 5 % of a space per word already on it (its ``spaceShrinkage``).
+
+    >>> [(line, round(spare, 2)) for line, spare in wrap_spaced("one two three", "Helvetica", 10, 40)]
+    [('one two', 4.98), ('three', 17.21)]
+    """
     from reportlab import rl_config
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
     space = stringWidth(" ", font, size)
     shrink = rl_config.spaceShrinkage * space
-    lines: list[str] = []
+    lines: list[tuple[str, float]] = []
     line: list[str] = []
     used = -space
     for word in text.split():
@@ -95,31 +108,30 @@ def wrap_lines(text: str, font: str, size: float, width: float) -> list[str] | N
             if word_w > width:
                 return None
             if line:
-                lines.append(" ".join(line))
+                lines.append((" ".join(line), width - used))
                 line, used = [word], word_w
                 continue
-        elif new_w > width:
-            return None
         line.append(word)
         used = new_w
     if line:
-        lines.append(" ".join(line))
+        lines.append((" ".join(line), width - used))
     return lines
 
 
-def _lines(text: str, font: str, size: float, width: float) -> list[str] | None:
-    """The lines of a cell's text in its column (the whole text when it fits, as a Table draws a string)."""
+def _lines(text: str, font: str, size: float, width: float) -> list[tuple[str, float]] | None:
+    """The lines of a cell's text in its column, each with its spare width (the whole text when it fits, as a
+    Table draws a string); see :func:`wrap_spaced`."""
     from reportlab.pdfbase.pdfmetrics import stringWidth
 
     if stringWidth(text, font, size) <= width - 6.5:
-        return [text]
-    return wrap_lines(text, font, size, width - 6)
+        return [(text, 0.0)]
+    return wrap_spaced(text, font, size, width - 6)
 
 
 def _cell(cell, width: float):
     """A cell as :mod:`.pdf_grid` draws it: CellText as plain lines (broken here), a bare string in the table's
     defaults (an empty filler), a Paragraph where plain lines would be drawn differently; flowables as they are."""
-    from bankbuild.reports.pdf_grid import BARE_LEADING, BARE_SIZE, Run, TextCell, plain_cell
+    from bankbuild.reports.pdf_grid import BARE_LEADING, BARE_SIZE, Run, TextCell, plain_cell, word_spacing
 
     if isinstance(cell, str):
         return plain_cell(cell.split("\n"), FONT, BARE_SIZE, BARE_LEADING, (0.0, 0.0, 0.0))
@@ -135,16 +147,18 @@ def _cell(cell, width: float):
         if not cell.note and stringWidth(cell.lead, bold, size) + stringWidth(cell.text, font, size) <= width - 6.5:
             return TextCell([[Run(bold, size, cell.lead), Run(font, size, cell.text)]], leading, size, [colour])
         return paragraph_class()(cell.markup(), style)
-    lines = _lines(cell.text, font, size, width)
-    if lines is None:  # a word wider than the column: the Paragraph splits it
+    spaced = _lines(cell.text, font, size, width)
+    if spaced is None:  # a word wider than the column: the Paragraph splits it
         if cell.colour is not None:
             style = style.clone(f"{style.name}-c", textColor=look_colour(cell.colour))
         return paragraph_class()(cell.markup(), style)
+    lines = [line for line, _ in spaced]
     if not cell.note:
-        return plain_cell(lines, font, size, leading, colour, right=style.alignment == 2)
+        return plain_cell(lines, font, size, leading, colour, right=style.alignment == 2,
+                          spacing=[word_spacing(line, spare) for line, spare in spaced])
     italic = styles()["note"].fontName
     note_lines = wrap_lines(cell.note, italic, NOTE_SIZE, width - 6)
-    if note_lines is None or style.alignment == 2:
+    if note_lines is None or style.alignment == 2 or any(spare < 0 for _, spare in spaced):
         return paragraph_class()(cell.markup(), style)
     note_colour = cell.note_colour if cell.note_colour is not None else colour
     return TextCell([[Run(font, size, line)] for line in lines] + [[Run(italic, NOTE_SIZE, n)] for n in note_lines],

@@ -84,6 +84,7 @@ class TextCell:
     first_size: float
     colours: list[tuple[float, float, float]]  # one per line
     right: bool = False
+    spacing: list[float] | None = None  # per line: the word spacing of a line set with its spaces narrowed
 
     @property
     def height(self) -> float:
@@ -94,9 +95,20 @@ class TextCell:
         return "\n".join("".join(run.text for run in line) for line in self.lines)
 
 
-def plain_cell(lines: list[str], font: str, size: float, leading: float, colour, right: bool = False) -> TextCell:
-    """A cell of ``lines`` in one font and colour."""
-    return TextCell([[Run(font, size, line)] for line in lines], leading, size, [colour] * len(lines), right)
+def plain_cell(lines: list[str], font: str, size: float, leading: float, colour, right: bool = False,
+               spacing: list[float] | None = None) -> TextCell:
+    """A cell of ``lines`` in one font and colour (``spacing``: see :class:`TextCell`)."""
+    return TextCell([[Run(font, size, line)] for line in lines], leading, size, [colour] * len(lines), right,
+                    spacing if spacing and any(spacing) else None)
+
+
+def word_spacing(line: str, spare: float) -> float:
+    """The word spacing a Paragraph sets on a line whose spare width is negative (its spaces narrowed to fit):
+    the spare width over the spaces; 0 for a line that fits as it is or has no space to narrow."""
+    if spare > -1e-8:
+        return 0.0
+    spaces = len(line.split(" ")) - 1
+    return spare / spaces if spaces > 0 else 0.0
 
 
 @dataclass(slots=True)
@@ -220,16 +232,19 @@ def _grid_class():
                         y = top - row.height + (PAD_BOTTOM + row.height - PAD_TOP + cell.height) / 2 - cell.first_size
                     else:
                         y = top - PAD_TOP - cell.first_size
-                    for line, line_colour in zip(cell.lines, cell.colours, strict=True):
+                    for i, (line, line_colour) in enumerate(zip(cell.lines, cell.colours, strict=True)):
                         if line_colour != colour:
                             code.append(colour_ops(line_colour))
                             colour = line_colour
                         x = left + PAD_LEFT
-                        if cell.right:
+                        spacing = cell.spacing[i] if cell.spacing else 0.0
+                        if cell.right and not spacing:
                             x = left + cell_w - PAD_RIGHT - sum(_width_of(run) for run in line)
                         shown = " ".join(text_ops(canv, run.font, run.size, cell.leading, run.text)
                                          for run in line if run.text)
-                        if shown:
+                        if shown and spacing:
+                            code.append(f"BT 1 0 0 1 {_fp(x, y)} Tm {_fp(spacing)} Tw {shown} T* 0 Tw ET")
+                        elif shown:
                             code.append(f"BT 1 0 0 1 {_fp(x, y)} Tm {shown} T* ET")
                         y -= cell.leading
             code.append("Q")
@@ -322,7 +337,7 @@ def _text_block_class():
             super().__init__()
             self.text = text
             self.style = style
-            self.lines: list[str] | None = None
+            self.lines: list[tuple[str, float]] | None = None
             self._para = None
             self._width = None
             self.width = self.height = 0.0
@@ -333,13 +348,13 @@ def _text_block_class():
             return self._para
 
         def wrap(self, avail_width, avail_height):
-            from bankbuild.reports.pdf_blocks import wrap_lines
+            from bankbuild.reports.pdf_blocks import wrap_spaced
 
             style = self.style
             if self._width != avail_width:
                 self._width = avail_width
                 usable = avail_width - style.leftIndent - style.rightIndent
-                self.lines = wrap_lines(self.text, style.fontName, style.fontSize, usable)
+                self.lines = wrap_spaced(self.text, style.fontName, style.fontSize, usable)
             if self.lines is None:
                 self.width, self.height = self._paragraph().wrap(avail_width, avail_height)
             else:
@@ -359,10 +374,15 @@ def _text_block_class():
             canv = self.canv
             y = self.height - style.fontSize
             out = ["q", colour_ops(style.textColor.rgb())]
-            for line in self.lines:
+            for line, spare in self.lines:
                 if line:
                     ops = text_ops(canv, style.fontName, style.fontSize, style.leading, line)
-                    out.append(f"BT 1 0 0 1 {_fp(style.leftIndent, y)} Tm {ops} T* ET")
+                    spacing = word_spacing(line, spare)
+                    if spacing:
+                        ops = f"{_fp(spacing)} Tw {ops} T* 0 Tw"
+                    else:
+                        ops += " T*"
+                    out.append(f"BT 1 0 0 1 {_fp(style.leftIndent, y)} Tm {ops} ET")
                 y -= style.leading
             out.append("Q")
             canv._code.append("\n".join(out))

@@ -120,3 +120,44 @@ def test_a_plain_paragraph_is_drawn_as_reportlabs(text, style):
     ours = story_pdf(P(text, style))
     theirs = story_pdf(paragraph_class()(para_text(text), styles()[style]))
     assert placed_text(ours) == placed_text(theirs)
+
+
+def word_spacings(pdf: bytes) -> list[str]:
+    """The word spacings (``Tw`` operands) set in the page content, in order."""
+    import re
+
+    reader = pypdf.PdfReader(io.BytesIO(pdf))
+    data = b"".join(page.get_contents().get_data() for page in reader.pages)
+    return [value.decode() for value in re.findall(rb"(-?[0-9.]+) Tw", data) if value not in (b"0",)]
+
+
+def test_a_line_that_fits_only_with_narrowed_spaces_is_set_as_a_paragraph_sets_it():
+    """Where a line fits only within reportlab's space shrinkage, a Paragraph narrows its word spacing: the cell
+    and the plain paragraph drawn here must do the same, to the same value."""
+    from bankbuild.reports.pdf_blocks import wrap_spaced
+    from bankbuild.reports.pdf_common import FONT, P
+
+    register_fonts()
+    text = "NEC 240.6(A) standard ampere ratings; NEC 460.8(B); 1.65 for time-delay fuses is common practice"
+    width = next(w / 10 for w in range(600, 1500) if (lines := wrap_spaced(text, FONT, 7.4, w / 10)) is not None
+                 and any(spare < -1e-6 for _, spare in lines))
+    ours = story_pdf(grid([[C(text)]], [width + 6], header_rows=0))
+    theirs = story_pdf(reference_table([[C(text)]], [width + 6], 0))
+    assert word_spacings(ours) and word_spacings(ours) == word_spacings(theirs)
+    assert placed_text(ours) == placed_text(theirs)
+    def squeezed(w: float, size: float) -> bool:
+        lines = wrap_spaced(text, FONT, size, w)
+        return lines is not None and any(spare < -1e-6 for _, spare in lines)
+
+    body = next(w / 10 for w in range(600, 3000) if squeezed(w / 10, 8.5))
+
+    def narrow(flowable):
+        from reportlab.platypus import Table
+
+        return Table([[flowable]], colWidths=[body], style=[("LEFTPADDING", (0, 0), (-1, -1), 0),
+                                                            ("RIGHTPADDING", (0, 0), (-1, -1), 0)])
+
+    ours = story_pdf(narrow(P(text, "body")))
+    theirs = story_pdf(narrow(paragraph_class()(para_text(text), styles()["body"])))
+    assert word_spacings(ours) and word_spacings(ours) == word_spacings(theirs)
+    assert placed_text(ours) == placed_text(theirs)
