@@ -21,6 +21,7 @@ from bankbuild.reports.pdf_common import (
     paragraph_class,
     plain_text,
     styles,
+    text_width,
 )
 from bankbuild.results.sizing import ProjectResult
 
@@ -94,15 +95,14 @@ def wrap_spaced(text: str, font: str, size: float, width: float) -> list[tuple[s
     [('one two', 4.98), ('three', 17.21)]
     """
     from reportlab import rl_config
-    from reportlab.pdfbase.pdfmetrics import stringWidth
 
-    space = stringWidth(" ", font, size)
+    space = text_width(" ", font, size)
     shrink = rl_config.spaceShrinkage * space
     lines: list[tuple[str, float]] = []
     line: list[str] = []
     used = -space
     for word in text.split():
-        word_w = stringWidth(word, font, size)
+        word_w = text_width(word, font, size)
         new_w = used + space + word_w
         if new_w > width + shrink * len(line):
             if word_w > width:
@@ -121,9 +121,7 @@ def wrap_spaced(text: str, font: str, size: float, width: float) -> list[tuple[s
 def _lines(text: str, font: str, size: float, width: float) -> list[tuple[str, float]] | None:
     """The lines of a cell's text in its column, each with its spare width (the whole text when it fits, as a
     Table draws a string); see :func:`wrap_spaced`."""
-    from reportlab.pdfbase.pdfmetrics import stringWidth
-
-    if stringWidth(text, font, size) <= width - 6.5:
+    if text_width(text, font, size) <= width - 6.5:
         return [(text, 0.0)]
     return wrap_spaced(text, font, size, width - 6)
 
@@ -141,10 +139,8 @@ def _cell(cell, width: float):
     font, size, leading = style.fontName, style.fontSize, style.leading
     colour = cell.colour if cell.colour is not None else INK
     if cell.lead:  # a bold lead-in: drawn plain when the whole line fits
-        from reportlab.pdfbase.pdfmetrics import stringWidth
-
         bold = styles()["cell_bold"].fontName
-        if not cell.note and stringWidth(cell.lead, bold, size) + stringWidth(cell.text, font, size) <= width - 6.5:
+        if not cell.note and text_width(cell.lead, bold, size) + text_width(cell.text, font, size) <= width - 6.5:
             return TextCell([[Run(bold, size, cell.lead), Run(font, size, cell.text)]], leading, size, [colour])
         return paragraph_class()(cell.markup(), style)
     spaced = _lines(cell.text, font, size, width)

@@ -129,6 +129,23 @@ def _cache_widths(font) -> None:
     font.splitString = split_cached
 
 
+_WIDTHS: dict[tuple[str, str], float] = {}
+
+
+def text_width(text: str, font: str, size: float) -> float:
+    """The width of ``text`` in ``font`` at ``size`` [pt], remembered per font and text (a document measures the
+    same words thousands of times; the width scales with the size exactly)."""
+    key = (font, text)
+    per_point = _WIDTHS.get(key)
+    if per_point is None:
+        from reportlab.pdfbase.pdfmetrics import stringWidth
+
+        if len(_WIDTHS) >= 1 << 17:  # bounded memory: start again
+            _WIDTHS.clear()
+        per_point = _WIDTHS[key] = stringWidth(text, font, 1.0)
+    return per_point * size
+
+
 @lru_cache(maxsize=1)
 def paragraph_class():
     """A reportlab Paragraph that lays itself out once per width: tables wrap each cell to measure the row and

@@ -21,7 +21,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
-from bankbuild.reports.pdf_common import FONT, INK, RULE_GREY, styles
+from bankbuild.reports.pdf_common import FONT, INK, RULE_GREY, styles, text_width
 
 PAD_LEFT = PAD_RIGHT = 3.0
 PAD_TOP = 2.0
@@ -32,8 +32,11 @@ _TEXT_CACHE_MAX = 1 << 15
 
 
 def _fp(*values: float) -> str:
+    """Numbers as reportlab writes them into page content (its C formatter, imported on first use)."""
+    global _fp
     from reportlab.lib.rl_accel import fp_str
 
+    _fp = fp_str
     return fp_str(*values)
 
 
@@ -60,9 +63,16 @@ def text_ops(canv, font_name: str, size: float, leading: float, text: str) -> st
     return ops
 
 
+_COLOURS: dict[tuple, str] = {}
+
+
 def colour_ops(rgb: Sequence[float], stroke: bool = False) -> str:
     """A fill (or stroke) colour operator as reportlab writes it."""
-    return f"{_fp(*rgb)} {'RG' if stroke else 'rg'}"
+    key = (*rgb, stroke)
+    ops = _COLOURS.get(key)
+    if ops is None:
+        ops = _COLOURS[key] = f"{_fp(*rgb)} {'RG' if stroke else 'rg'}"
+    return ops
 
 
 @dataclass(slots=True)
@@ -127,9 +137,7 @@ class Row:
 
 
 def _width_of(run: Run) -> float:
-    from reportlab.pdfbase.pdfmetrics import stringWidth
-
-    return stringWidth(run.text, run.font, run.size)
+    return text_width(run.text, run.font, run.size)
 
 
 class Grid:
