@@ -18,6 +18,7 @@ reportlab is imported inside the functions, so importing this module costs nothi
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
@@ -95,6 +96,7 @@ class TextCell:
     colours: list[tuple[float, float, float]]  # one per line
     right: bool = False
     spacing: list[float] | None = None  # per line: the word spacing of a line set with its spaces narrowed
+    drawn: tuple = ()  # (document serial, width, ops): the cell's operators as last written (see cell_ops)
 
     @property
     def height(self) -> float:
@@ -110,6 +112,53 @@ def plain_cell(lines: list[str], font: str, size: float, leading: float, colour,
     """A cell of ``lines`` in one font and colour (``spacing``: see :class:`TextCell`)."""
     return TextCell([[Run(font, size, line)] for line in lines], leading, size, [colour] * len(lines), right,
                     spacing if spacing and any(spacing) else None)
+
+
+_SERIALS = itertools.count(1)
+
+
+def document_serial(canv) -> int:
+    """A number of the canvas's document of its own, never reused (a font subset's codes hold in one document)."""
+    doc = canv._doc
+    serial = getattr(doc, "_bankbuild_serial", None)
+    if serial is None:
+        serial = doc._bankbuild_serial = next(_SERIALS)
+    return serial
+
+
+def cell_ops(cell: TextCell, canv, width: float) -> tuple[float, str]:
+    """A text cell's lines as the inside of one text object, for a cell ``width`` wide: each line's text, its
+    word spacing where narrowed, its colour where it changes, and the move to the next line (``Td``); with the
+    first line's offset from the cell's left edge. The caller sets the first line's origin (``Tm``) and the
+    first line's colour. Remembered on the cell for its document, since the same cells recur bank after bank.
+    """
+    serial = document_serial(canv)
+    if cell.drawn and cell.drawn[0] == serial and cell.drawn[1] == width:
+        return cell.drawn[2], cell.drawn[3]
+    parts = []
+    previous_x = None
+    colour = cell.colours[0] if cell.colours else None
+    for i, (line, line_colour) in enumerate(zip(cell.lines, cell.colours, strict=True)):
+        spacing = cell.spacing[i] if cell.spacing else 0.0
+        x = PAD_LEFT
+        if cell.right and not spacing:
+            x = width - PAD_RIGHT - sum(_width_of(run) for run in line)
+        if previous_x is None:
+            first_x = x
+        else:
+            parts.append(f"{_fp(x - previous_x, -cell.leading)} Td")
+        previous_x = x
+        if line_colour != colour:
+            parts.append(colour_ops(line_colour))
+            colour = line_colour
+        shown = " ".join(text_ops(canv, run.font, run.size, cell.leading, run.text) for run in line if run.text)
+        if shown and spacing:
+            parts.append(f"{_fp(spacing)} Tw {shown} 0 Tw")
+        elif shown:
+            parts.append(shown)
+    ops = " ".join(parts) if any(run.text for line in cell.lines for run in line) else ""
+    cell.drawn = (serial, width, first_x if previous_x is not None else PAD_LEFT, ops)
+    return cell.drawn[2], ops
 
 
 def word_spacing(line: str, spare: float) -> float:
@@ -240,21 +289,13 @@ def _grid_class():
                         y = top - row.height + (PAD_BOTTOM + row.height - PAD_TOP + cell.height) / 2 - cell.first_size
                     else:
                         y = top - PAD_TOP - cell.first_size
-                    for i, (line, line_colour) in enumerate(zip(cell.lines, cell.colours, strict=True)):
-                        if line_colour != colour:
-                            code.append(colour_ops(line_colour))
-                            colour = line_colour
-                        x = left + PAD_LEFT
-                        spacing = cell.spacing[i] if cell.spacing else 0.0
-                        if cell.right and not spacing:
-                            x = left + cell_w - PAD_RIGHT - sum(_width_of(run) for run in line)
-                        shown = " ".join(text_ops(canv, run.font, run.size, cell.leading, run.text)
-                                         for run in line if run.text)
-                        if shown and spacing:
-                            code.append(f"BT 1 0 0 1 {_fp(x, y)} Tm {_fp(spacing)} Tw {shown} T* 0 Tw ET")
-                        elif shown:
-                            code.append(f"BT 1 0 0 1 {_fp(x, y)} Tm {shown} T* ET")
-                        y -= cell.leading
+                    x, ops = cell_ops(cell, canv, cell_w)
+                    if not ops:
+                        continue
+                    if cell.colours[0] != colour:
+                        code.append(colour_ops(cell.colours[0]))
+                    colour = cell.colours[-1]
+                    code.append(f"BT 1 0 0 1 {_fp(left + x, y)} Tm {ops} ET")
             code.append("Q")
             for cell, left, top, cell_w, row in flowables:
                 _, h = cell.wrap(cell_w - PAD_LEFT - PAD_RIGHT, 1e9)
