@@ -15,20 +15,25 @@ light: pydantic and the pipeline load on the first call, pandas on the first ``t
 """
 
 from bankbuild._version import __version__
-from bankbuild.api import (
-    check_tables,
-    copy_tables,
-    demo,
-    kvar,
-    load_spec,
-    rerate,
-    results_schema,
-    size,
-    spec_schema,
-)
 from bankbuild.errors import BankbuildError, CatalogError, OptionError, SpecError
 
+_API = ("check_tables", "copy_tables", "demo", "kvar", "load_spec", "rerate", "results_schema", "size",
+        "spec_schema")
+
 __all__ = [
-    "BankbuildError", "CatalogError", "OptionError", "SpecError", "__version__", "check_tables", "copy_tables",
-    "demo", "kvar", "load_spec", "rerate", "results_schema", "size", "spec_schema",
+    "BankbuildError", "CatalogError", "OptionError", "SpecError", "__version__", *_API,
 ]
+
+
+def __getattr__(name: str):
+    """The API functions, loaded with :mod:`bankbuild.api` on first use (the command line's ``--help`` and
+    every import of a sub-module skip it)."""
+    if name in _API:
+        from bankbuild import api
+
+        return getattr(api, name)
+    raise AttributeError(f"module 'bankbuild' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted({*globals(), *_API})

@@ -58,3 +58,11 @@ def test_console_script_help_imports_no_heavy_library():
     imported = {line.rsplit("|", 1)[-1].strip().split(".")[0] for line in proc.stderr.splitlines() if "|" in line}
     assert "bankbuild" in imported
     assert imported.isdisjoint(HEAVY)
+
+
+def test_help_does_not_load_the_api_and_the_api_loads_on_first_use():
+    code = ("import sys\nfrom bankbuild.cli.app import run\nrun(['--help'])\nbefore = 'bankbuild.api' in sys.modules\n"
+            "import bankbuild\nsize = bankbuild.size\nprint(before, 'bankbuild.api' in sys.modules, size.__name__)")
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.strip().splitlines()[-1] == "False True size"
