@@ -9,6 +9,7 @@ $(STAMP): pyproject.toml
 	test -d $(VENV) || $(PY) -m venv $(VENV)
 	$(BIN)/pip install -q --upgrade pip
 	$(BIN)/pip install -q -e '.[test]'
+	$(BIN)/python -m compileall -q bankbuild  # bytecode, as a wheel install writes it (PYTHONDONTWRITEBYTECODE)
 	touch $(STAMP)
 
 SURVEY := bankbuild-out/survey

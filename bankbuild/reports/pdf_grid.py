@@ -22,7 +22,7 @@ import itertools
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
-from bankbuild.reports.pdf_common import FONT, INK, RULE_GREY, styles, text_width
+from bankbuild.reports.pdf_common import INK, RULE_GREY, styles, text_width
 
 PAD_LEFT = PAD_RIGHT = 3.0
 PAD_TOP = 2.0
@@ -96,7 +96,7 @@ class TextCell:
     colours: list[tuple[float, float, float]]  # one per line
     right: bool = False
     spacing: list[float] | None = None  # per line: the word spacing of a line set with its spaces narrowed
-    drawn: tuple = ()  # (document serial, width, ops): the cell's operators as last written (see cell_ops)
+    drawn: tuple = ()  # (document serial, width, first line's x, operators) as last written: see cell_ops
 
     @property
     def height(self) -> float:
@@ -448,7 +448,3 @@ def text_block(text: str, style_name: str):
     if _BLOCK is None:
         _BLOCK = _text_block_class()
     return _BLOCK(text, styles()[style_name])
-
-
-__all__ = ["FONT", "Grid", "Row", "Run", "TextBlock", "TextCell", "grid_flowable", "plain_cell", "text_block",
-           "text_ops"]
