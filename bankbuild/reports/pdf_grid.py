@@ -201,8 +201,10 @@ def _grid_class():
 
         def __init__(self, rows: list[Row], widths: Sequence[float], header_rows: int,
                      underlines: Sequence[tuple[int, int, int, int, float]] = (), top: bool = True,
-                     bottom: bool = True):
+                     bottom: bool = True, tail_rule: float = 0.0):
             super().__init__()
+            # A part that ends just above a band row draws that row's rule at its foot too, as reportlab does.
+            self.tail_rule = tail_rule
             # The box's top and bottom rules belong to the table's first and last rows: a part of a split table
             # draws its top rule only when it starts with the first row or repeats the header, and its bottom
             # rule only when it ends with the last row (as a reportlab Table splits its box).
@@ -256,9 +258,10 @@ def _grid_class():
                 return [self]
             head = self.rows[:self.header_rows]
             cls = type(self)
-            first = cls(self.rows[:fits], self.col_widths, self.header_rows, self.underlines, self.top, False)
+            first = cls(self.rows[:fits], self.col_widths, self.header_rows, self.underlines, self.top, False,
+                        self.rows[fits].rule_above)
             rest = cls(head + self.rows[fits:], self.col_widths, self.header_rows, self.underlines,
-                       self.header_rows > 0, self.bottom)
+                       self.header_rows > 0, self.bottom, self.tail_rule)
             return [first, rest]
 
         # -- drawing
@@ -337,6 +340,8 @@ def _grid_class():
             for row, top in zip(self.rows, tops, strict=True):
                 if row.rule_above:
                     line(0, top, width, top, row.rule_above, INK)
+            if self.tail_rule:
+                line(0, 0, width, 0, self.tail_rule, INK)
             lefts = [0.0]
             for w in self.col_widths:
                 lefts.append(lefts[-1] + w)

@@ -161,3 +161,17 @@ def test_a_line_that_fits_only_with_narrowed_spaces_is_set_as_a_paragraph_sets_i
     theirs = story_pdf(narrow(paragraph_class()(para_text(text), styles()["body"])))
     assert word_spacings(ours) and word_spacings(ours) == word_spacings(theirs)
     assert placed_text(ours) == placed_text(theirs)
+
+
+def test_a_part_that_ends_above_a_band_row_draws_its_rule_at_the_foot():
+    """reportlab's Table gives a band row's heavy rule to the part before a split as well (at its foot): a page
+    that ends just above 'Step 2 …' shows the rule there, and the next page shows it under the header."""
+    register_fonts()
+    rows = [[C("Head", "head")], [C("a")], [C("b")], [C(" — band", lead="Step 2")], [C("c")]]
+    table = grid(rows, [200.0], spans=[3])
+    heights = [r.height for r in (table.wrap(200, 1000) and table.rows)]
+    first, rest = table.split(200, sum(heights[:3]) + 1)
+    assert len(first.rows) == 3 and first.tail_rule == 0.8 and not first.bottom
+    assert rest.rows[1].rule_above == 0.8 and rest.tail_rule == 0.0
+    whole, other = grid(rows, [200.0], spans=[3]).split(200, sum(heights[:2]) + 1)
+    assert whole.tail_rule == 0.0  # the row after the split is no band
