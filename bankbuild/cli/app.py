@@ -106,14 +106,23 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
 
     if out is None and not as_json:
         out = Path("bankbuild-out")
+    delimiter = _csv_delimiter(csv_delimiter)
+    warm = None
     if out is not None:
         check_out(out)  # a folder the documents cannot go into is refused before the work, not after it
-    with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
-        delimiter = _csv_delimiter(csv_delimiter)
-        result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"),
-                          demo_prices=demo_prices)
-        written = [] if out is None else write_documents(result, out, csv_delimiter=delimiter,
-                                                           on_document=progress.callback("writing documents"))
+        from bankbuild.design import sizing  # noqa: F401 - the result types, loaded once for the workers too
+        from bankbuild.reports.writer import prestart
+
+        warm = prestart(delimiter)  # they get ready to render while the banks are sized
+    try:
+        with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
+            result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"),
+                              demo_prices=demo_prices)
+            written = [] if out is None else write_documents(result, out, csv_delimiter=delimiter, warm=warm,
+                                                               on_document=progress.callback("writing documents"))
+    finally:
+        if warm is not None:
+            warm.stop()
     if as_json:
         typer.echo(project_json(result))
     else:

@@ -8,7 +8,8 @@ no row matches is left unpriced, and said to be so. Prices apply per the line's 
 
 from __future__ import annotations
 
-from fnmatch import fnmatchcase
+import re
+from fnmatch import translate
 
 from bankbuild.results.sizing import BomLine, BomTotal
 
@@ -17,6 +18,19 @@ WILD = frozenset("*?[")
 
 def _specificity(pattern: str) -> int:
     return sum(1 for ch in pattern if ch not in WILD)
+
+
+_PATTERNS: tuple[object, list] = (None, [])  # (the price rows, their pattern rows compiled, best first)
+
+
+def _pattern_rows(prices) -> list:
+    """The rows of ``prices`` that hold a pattern, each with its compiled matcher (case-blind ``fnmatch``), the
+    most specific first and, among equals, in the table's order; remembered for the last table asked about."""
+    global _PATTERNS
+    if _PATTERNS[0] is not prices:
+        rows = sorted((p for p in prices if not WILD.isdisjoint(p.part)), key=lambda p: -_specificity(p.part))
+        _PATTERNS = (prices, [(re.compile(translate(p.part.lower())).match, p) for p in rows])
+    return _PATTERNS[1]
 
 
 def price_for(line: BomLine, prices) -> object | None:
@@ -39,15 +53,7 @@ def price_for(line: BomLine, prices) -> object | None:
     if exact is not None:
         return exact
     lowered = [n.lower() for n in names]
-    best = None
-    for p in prices:
-        if WILD.isdisjoint(p.part):
-            continue
-        pattern = p.part.lower()
-        if any(fnmatchcase(n, pattern) for n in lowered):
-            if best is None or _specificity(p.part) > _specificity(best.part):
-                best = p
-    return best
+    return next((p for match, p in _pattern_rows(prices) if any(match(n) for n in lowered)), None)
 
 
 def price_lines(lines: list[BomLine], catalogs) -> list[BomLine]:

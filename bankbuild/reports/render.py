@@ -12,6 +12,11 @@ of M"), finishes and sends its bytes; the pieces are then joined (:mod:`.pdf_joi
 starts on a new page. The light documents (JSON, CSV, a one-line SVG per bank) are rendered together by one
 worker: a process each would cost more than the document (500 forks of a 500-bank plant cost ~9 s of system time).
 
+A small plant's documents can be rendered by workers started before it is sized (:class:`WarmWorkers`): they
+import the PDF and workbook libraries while this process reads the tables and sizes the banks, then receive the
+results (pickled: a few hundred kB) and render. A large plant's results are not copied: those workers are
+stopped and the documents rendered by workers forked after sizing, as above.
+
 Whatever happens in a worker (an error, a crash, a worker killed for memory), that document is rendered
 again here, whole, so the error a user sees is the same as in a single process. Nothing is written in this module.
 
@@ -101,23 +106,119 @@ def _die_with_parent() -> None:
 
 
 def render_documents(result, writers: Sequence[Writer],
-                     on_document: Callable[[int, int, str], None] | None = None) -> list[tuple[str, bytes]]:
+                     on_document: Callable[[int, int, str], None] | None = None,
+                     warm: WarmWorkers | None = None) -> list[tuple[str, bytes]]:
     """Every document as ``(file name, bytes)``, in the order of ``writers``.
 
     ``on_document(done, total, name)`` is called as documents start (in one process) or finish (in workers).
+    ``warm``: workers started before sizing; they render a small plant's documents (see :class:`WarmWorkers`)
+    and are stopped for a large one.
     """
     total = len(writers)
     report = on_document or (lambda done, count, name: None)
-    workers = worker_count(len(getattr(result, "banks", ())), total)
+    banks = len(getattr(result, "banks", ()))
     done: dict[int, bytes] = {}
-    if workers > 1:
-        done = _render_parallel(result, writers, workers, report)
+    if warm is not None and warm.ready and banks <= WARM_MAX_BANKS:
+        report(0, total, ", ".join(dict.fromkeys(name for name, _ in writers if name.endswith(".pdf"))))
+        rendered = warm.render(result, lambda names: [report(count, total, name) for count, name in names])
+        done = {i: rendered[name] for i, (name, _) in enumerate(writers) if name in rendered}
+    else:
+        if warm is not None:
+            warm.stop()
+        workers = worker_count(banks, total)
+        if workers > 1:
+            done = _render_parallel(result, writers, workers, report)
     for i, (name, render) in enumerate(writers):
         if i not in done:
             report(len(done), total, name)
             done[i] = render(result)
     report(total, total, "")
     return [(writers[i][0], done[i]) for i in range(total)]
+
+
+WARM_MAX_BANKS = 12
+"""Up to this many banks, workers started before sizing render the documents (a pickled copy of the results is
+small); above it, workers forked after sizing share the results without a copy."""
+
+
+class WarmWorkers:
+    """Worker processes started before a plant is sized, each preparing for its share of the documents (importing
+    the libraries they need) while this process sizes; :meth:`render` sends them the results.
+
+    ``make_writers(result)`` gives the ``(file name, renderer)`` pairs (the workers were forked before the
+    results existed, so they make the renderers themselves); ``shares`` are ``(prepare, takes)`` pairs: a
+    function run at once in the worker, and which file names the worker renders. Nothing starts on one core or
+    off Linux (:attr:`ready` is then false). A worker that fails leaves its documents to be rendered here.
+    """
+
+    def __init__(self, make_writers: Callable[[object], Sequence[Writer]],
+                 shares: Sequence[tuple[Callable[[], None], Callable[[str], bool]]]):
+        self.workers: list[tuple[object, object]] = []
+        if worker_count(PARALLEL_MIN_BANKS, len(shares)) < 2:
+            return
+        import multiprocessing
+
+        context = multiprocessing.get_context("fork")
+        try:
+            for prepare, takes in shares:
+                conn, child = context.Pipe()
+                process = context.Process(target=_warm_main, args=(os.getpid(), prepare, make_writers, takes, child),
+                                          daemon=True)
+                process.start()
+                child.close()
+                self.workers.append((process, conn))
+        except OSError:  # no more processes to be had: the documents are rendered the usual way
+            self.stop()
+
+    @property
+    def ready(self) -> bool:
+        return bool(self.workers)
+
+    def render(self, result, on_share: Callable[[list[tuple[int, str]]], None] | None = None) -> dict[str, bytes]:
+        """The documents the workers rendered for ``result``, by file name (those that failed are left out);
+        ``on_share`` is told of each worker's documents as they arrive (count so far, file name)."""
+        rendered: dict[str, bytes] = {}
+        try:
+            for _, conn in self.workers:
+                _send(conn, result)
+            for _, conn in self.workers:
+                try:
+                    kind, value = conn.recv()
+                except (EOFError, OSError, ValueError):
+                    continue
+                if kind == "done":
+                    start = len(rendered)
+                    rendered.update(value)
+                    if on_share is not None:
+                        on_share([(start + k, name) for k, (name, _) in enumerate(value, start=1)])
+        finally:
+            self.stop()
+        return rendered
+
+    def stop(self) -> None:
+        """End the workers now (they are not needed, or this process is stopping). They hold nothing worth a
+        clean ending (no file, no lock), and may not yet have set their own signal handling: killed outright."""
+        workers, self.workers = self.workers, []
+        for process, conn in workers:
+            if process.is_alive():
+                process.kill()
+            conn.close()
+        for process, _ in workers:
+            process.join(timeout=5)
+
+
+def _warm_main(parent: int, prepare, make_writers, takes, conn) -> None:
+    """The body of a warm worker: prepare, wait for the results, render its share, send it, end."""
+    code = 0
+    try:
+        _worker_start(parent)
+        prepare()
+        result = conn.recv()
+        conn.send(("done", [(name, render(result)) for name, render in make_writers(result) if takes(name)]))
+    except BaseException:  # noqa: BLE001 - the parent renders these documents again and reports the error
+        code = 1
+    finally:
+        os._exit(code)
 
 
 def piece_ranges(banks: int, per_piece: int, workers: int) -> list[tuple[int, int]]:

@@ -61,19 +61,55 @@ def check_out(out_dir: str | Path, names: tuple[str, ...] = DOCUMENTS) -> None:
     check_folder(out_dir, "out_dir", names)
 
 
-def write_documents(result: ProjectResult, out_dir: Path, on_document=None, csv_delimiter: str = ",") -> list[Path]:
+def _prepare_pdfs() -> None:
+    """What a worker that will draw the PDFs can do before the results exist: import and set up reportlab (the
+    document modules import it inside their functions, for a light start-up elsewhere)."""
+    import reportlab.pdfgen.canvas  # noqa: F401
+    import reportlab.platypus  # noqa: F401
+
+    from bankbuild.reports import bank_charts, jsonout, pdf_bom, pdf_worksheet  # noqa: F401
+    from bankbuild.reports.pdf_common import paragraph_class, register_fonts, styles
+
+    register_fonts()
+    styles()
+    paragraph_class()
+
+
+def _prepare_tables() -> None:
+    """What a worker that will write the workbook and the light documents can do first: import openpyxl."""
+    import openpyxl  # noqa: F401
+    import openpyxl.packaging.extended  # noqa: F401 - imported when a workbook is saved
+
+    from bankbuild.reports import jsonout, oneline, pdf_bom, pdf_worksheet, tables  # noqa: F401
+
+
+def prestart(csv_delimiter: str = ","):
+    """Workers for a run's documents, started now, before the plant is sized (see
+    :class:`bankbuild.reports.render.WarmWorkers`): one draws the PDFs, one writes the rest. Pass them to
+    :func:`write_documents`; stop them (``.stop()``) if the run ends before."""
+    from bankbuild.reports.render import WarmWorkers
+
+    def is_pdf(name: str) -> bool:
+        return name.endswith(".pdf")
+
+    return WarmWorkers(lambda result: _writers(result, csv_delimiter),
+                       [(_prepare_pdfs, is_pdf), (_prepare_tables, lambda name: not is_pdf(name))])
+
+
+def write_documents(result: ProjectResult, out_dir: Path, on_document=None, csv_delimiter: str = ",",
+                    warm=None) -> list[Path]:
     """Render every document, then put the whole set into ``out_dir`` at once (created if missing).
 
     The folder is locked from before the first document renders until the set is in place.
     ``on_document(done, total, name)``, if given, reports progress (see :mod:`bankbuild.reports.render`, which
     renders a large plant's documents on several cores). ``csv_delimiter`` separates the CSV's cells (``;`` for
-    spreadsheets in locales whose decimal mark is a comma).
+    spreadsheets in locales whose decimal mark is a comma). ``warm``: workers from :func:`prestart`.
     """
     from bankbuild.reports.render import render_documents
 
     check_out(out_dir, DOCUMENTS)
     with FileSet(Path(out_dir), "out_dir", DOCUMENTS, family_pattern=ONE_LINE_PATTERN) as files:
-        for name, data in render_documents(result, _writers(result, csv_delimiter), on_document):
+        for name, data in render_documents(result, _writers(result, csv_delimiter), on_document, warm):
             files.add(name, data)
         return files.commit()
 

@@ -22,10 +22,12 @@ import pytest
 
 from bankbuild.cli.app import run
 from bankbuild.files import FileSet
+from bankbuild.reports.render import WARM_MAX_BANKS
 from bankbuild.tables.load import MAX_TABLE_ROWS, builtin_dir
 
 sys.path.insert(0, str(Path(__file__).parents[2] / "benchmarks"))
 from bigtable import HUGE_NEED, big_units_table  # noqa: E402
+from plant import write_plant_spec  # noqa: E402
 
 SPECS = Path(__file__).parents[1] / "data" / "specs"
 SPEC = SPECS / "line3_300kvar.yaml"
@@ -178,11 +180,15 @@ def test_two_concurrent_runs_leave_one_whole_set(tmp_path):
 
 # --- signals --------------------------------------------------------------------------------------------------
 
+@pytest.mark.parametrize("banks", [WARM_MAX_BANKS, 30], ids=["workers started before sizing", "forked after"])
 @pytest.mark.parametrize("name", ["SIGTERM", "SIGINT", "SIGHUP"])
-def test_a_signal_while_rendering_stops_cleanly(tmp_path, name):
+def test_a_signal_while_rendering_stops_cleanly(tmp_path, name, banks):
+    """A plant whose documents take long enough to be interrupted: a small one (rendered by the workers started
+    before sizing) and a larger one (by workers forked after it)."""
     out = tmp_path / "out"
     before = first_set(out)
-    proc = subprocess.Popen([SCRIPT, "size", str(SPEC), "--out", str(out)], stdout=subprocess.PIPE,
+    spec = write_plant_spec(tmp_path, banks)
+    proc = subprocess.Popen([SCRIPT, "size", str(spec), "--out", str(out)], stdout=subprocess.PIPE,
                             stderr=subprocess.PIPE, text=True, start_new_session=True)
     deadline = time.monotonic() + 120
     while not list(out.glob(".bankbuild-new-*")) and proc.poll() is None and time.monotonic() < deadline:

@@ -112,7 +112,7 @@ def test_error_erases_the_bar_before_the_message(tmp_path: Path, monkeypatch) ->
     monkeypatch.setattr(sys, "stderr", fake)
     spec = _plant(tmp_path)
 
-    def fails_while_writing(result, writers, on_document=None):
+    def fails_while_writing(result, writers, on_document=None, warm=None):
         on_document(0, 6, "results.json")
         raise BankbuildError("results.json", "", "cannot be rendered")
 

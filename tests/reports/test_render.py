@@ -169,3 +169,67 @@ def test_workers_do_not_outlive_a_parent_killed_outright(tmp_path) -> None:
     finally:
         if parent.poll() is None:
             parent.kill()
+
+
+def warm_for(writers):
+    """Warm workers for ``writers``: one takes the PDFs, one the rest (as the command line starts them)."""
+    def is_pdf(name):
+        return name.endswith(".pdf")
+
+    return render.WarmWorkers(lambda result: writers, [(lambda: None, is_pdf), (lambda: None, lambda n: not is_pdf(n))])
+
+
+@needs_workers
+def test_a_small_plants_documents_are_rendered_by_the_workers_started_before_sizing() -> None:
+    warm = warm_for(WRITERS)
+    assert warm.ready
+    out = render_documents(plant(render.WARM_MAX_BANKS), WRITERS, warm=warm)
+    assert [name for name, _ in out] == [name for name, _ in WRITERS]
+    pids = {name: data.decode().split(":")[2] for name, data in out}
+    assert pids["bill-of-materials.pdf"] == pids["protection-worksheet.pdf"] != str(PARENT)
+    assert pids["results.json"] == pids["bill-of-materials.xlsx"] != pids["bill-of-materials.pdf"]
+    assert all(data.decode().split(":")[1] == str(render.WARM_MAX_BANKS) for _, data in out)  # the results sent
+    assert not warm.ready and not warm.workers  # stopped once done
+
+
+@needs_workers
+def test_a_large_plant_stops_the_early_workers_and_forks_its_own() -> None:
+    warm = warm_for(WRITERS)
+    processes = [process for process, _ in warm.workers]
+    out = dict(render_documents(plant(render.WARM_MAX_BANKS + 1), WRITERS, warm=warm))
+    assert not warm.workers and not any(process.is_alive() for process in processes)
+    assert len(out) == len(WRITERS) and all(data.decode().split(":")[2] != str(PARENT) for data in out.values())
+
+
+@needs_workers
+def test_what_an_early_worker_fails_to_render_is_rendered_here() -> None:
+    def broken(result):
+        if os.getpid() != PARENT:
+            raise RuntimeError("a worker's failure")
+        return b"rendered here"
+
+    writers = [*WRITERS[:3], ("protection-worksheet.pdf", broken)]
+    out = dict(render_documents(plant(2), writers, warm=warm_for(writers)))
+    assert out["protection-worksheet.pdf"] == b"rendered here"
+    assert out["bill-of-materials.pdf"].decode().endswith(f":{PARENT}")  # its worker failed: done here too
+    assert not out["results.json"].decode().endswith(f":{PARENT}")  # the other worker's share stands
+
+
+@needs_workers
+def test_an_early_worker_whose_preparation_fails_leaves_its_share_here() -> None:
+    def fails():
+        raise ImportError("no such library")
+
+    warm = render.WarmWorkers(lambda result: WRITERS, [(fails, lambda n: n.endswith(".pdf")),
+                                                       (lambda: None, lambda n: not n.endswith(".pdf"))])
+    out = dict(render_documents(plant(1), WRITERS, warm=warm))
+    assert all(out[name].decode().endswith(f":{PARENT}") for name in out if name.endswith(".pdf"))
+    assert not any(out[name].decode().endswith(f":{PARENT}") for name in out if not name.endswith(".pdf"))
+
+
+def test_no_early_workers_on_one_core(monkeypatch) -> None:
+    monkeypatch.setattr(render, "cores", lambda: 1)
+    warm = warm_for(WRITERS)
+    assert not warm.ready
+    out = render_documents(plant(2), WRITERS, warm=warm)
+    assert all(data.decode().endswith(f":{PARENT}") for _, data in out)
