@@ -15,6 +15,7 @@ import csv
 import io
 import json
 import re
+from copy import copy
 
 from bankbuild.results.sizing import BomLine, ProjectResult
 
@@ -208,38 +209,75 @@ def _put(ws, row: int, col: int, value):
     return cell
 
 
-def _bom_sheet(ws, lines: list[BomLine], scope: str, head: tuple[str, ...], total, rules: str) -> None:
-    from openpyxl.styles import Alignment, Font, PatternFill
+class _Styles:
+    """Cell styles of a workbook by name, applied fast: the first cell of a style is styled through openpyxl's
+    own attributes, the next ones copy its style record (openpyxl hashes and compares the style objects on every
+    assignment: 40 % of the workbook's time when each cell was styled on its own). Where the record is not
+    there (another openpyxl), every cell is styled through the attributes."""
+
+    def __init__(self):
+        from openpyxl.styles import Alignment, Font, PatternFill
+
+        wrap = Alignment(wrap_text=True, vertical="top")
+        flag = PatternFill("solid", fgColor="FFE8A8")
+        bold = Font(bold=True)
+        self.specs = {
+            "head": {"font": bold, "fill": PatternFill("solid", fgColor="DDDDDD")},
+            "bold": {"font": bold},
+            "wrap": {"alignment": wrap},
+            "flag": {"alignment": wrap, "fill": flag},
+            "money": {"alignment": wrap, "number_format": MONEY_FORMAT},
+            "money-flag": {"alignment": wrap, "number_format": MONEY_FORMAT, "fill": flag},
+            "bold-money": {"font": bold, "number_format": MONEY_FORMAT},
+            **{f"qty-{whole}": {"alignment": wrap, "number_format": QTY_FORMATS[whole]} for whole in (True, False)},
+        }
+        self.records: dict[str, object] = {}
+
+    def apply(self, cell, name: str):
+        record = self.records.get(name)
+        if record is not None:
+            cell._style = copy(record)
+            return cell
+        for attribute, value in self.specs[name].items():
+            setattr(cell, attribute, value)
+        if hasattr(cell, "_style"):
+            self.records[name] = copy(cell._style)
+        return cell
+
+
+def _bom_sheet(ws, lines: list[BomLine], scope: str, head: tuple[str, ...], total, rules: str,
+               looks: _Styles) -> None:
     from openpyxl.utils import get_column_letter
 
     priced = total is not None
     names = head[1:]
     at = {name: col for col, name in enumerate(names, start=1)}
     for col, name in enumerate(names, start=1):
-        cell = _put(ws, 1, col, name)
-        cell.font = Font(bold=True)
-        cell.fill = PatternFill("solid", fgColor="DDDDDD")
+        looks.apply(_put(ws, 1, col, name), "head")
         ws.column_dimensions[get_column_letter(col)].width = WIDTHS[name]
-    wrap = Alignment(wrap_text=True, vertical="top")
-    flag = PatternFill("solid", fgColor="FFE8A8")
+    qty_col = at["qty"]
+    price_cols = {at["unit_price"], at["extended_price"]} if priced else set()
+    flag_cols = price_cols | {at["price_status"]} if priced else set()
     for r, line in enumerate(lines, start=2):
+        unpriced = priced and line.extended_price is None
+        qty = f"qty-{float(line.qty).is_integer()}"
         for col, value in enumerate(_cells(scope, line, priced)[1:], start=1):
-            _put(ws, r, col, value).alignment = wrap
-        ws.cell(row=r, column=at["qty"]).number_format = QTY_FORMATS[float(line.qty).is_integer()]
-        if priced:
-            for name in ("unit_price", "extended_price"):
-                ws.cell(row=r, column=at[name]).number_format = MONEY_FORMAT
-            if line.extended_price is None:
-                for name in ("unit_price", "extended_price", "price_status"):
-                    ws.cell(row=r, column=at[name]).fill = flag
+            if col == qty_col:
+                look = qty
+            elif col in price_cols:
+                look = "money-flag" if unpriced else "money"
+            elif unpriced and col in flag_cols:
+                look = "flag"
+            else:
+                look = "wrap"
+            looks.apply(_put(ws, r, col, value), look)
     last = len(lines) + 1
     if priced:
         last += 1
-        _put(ws, last, at["description"], total_text(total)).font = Font(bold=True)
-        cell = _put(ws, last, at["extended_price"], total.total)
-        cell.font, cell.number_format = Font(bold=True), MONEY_FORMAT
+        looks.apply(_put(ws, last, at["description"], total_text(total)), "bold")
+        looks.apply(_put(ws, last, at["extended_price"], total.total), "bold-money")
         _put(ws, last, at["currency"], total.currency)
-        _put(ws, last, at["item"], "total").font = Font(bold=True)
+        looks.apply(_put(ws, last, at["item"], "total"), "bold")
     ws.freeze_panes = "A2"
     ws.auto_filter.ref = f"A1:{get_column_letter(len(names))}{max(1, len(lines) + 1)}"
     _print_setup(ws, rules)
@@ -270,10 +308,11 @@ def bom_xlsx(result: ProjectResult) -> bytes:
     taken = {"about"}
     ws.title = sheet_title("Project", taken)
     head, rules = columns(result), result.provenance.rules
-    _bom_sheet(ws, list(result.bom), PROJECT_SCOPE, head, result.bom_total, rules)
+    looks = _Styles()
+    _bom_sheet(ws, list(result.bom), PROJECT_SCOPE, head, result.bom_total, rules, looks)
     for bank in result.banks:
         _bom_sheet(wb.create_sheet(sheet_title(bank.name, taken)), list(bank.bom), bank.name, head, bank.bom_total,
-                   rules)
+                   rules, looks)
     about = wb.create_sheet("About")
     rows = [("Bill of materials", "")]
     rows += [(k.replace("_", " ").capitalize(), str(v)) for k, v in result.project.items() if v]

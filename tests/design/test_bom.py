@@ -184,6 +184,13 @@ def test_xlsx_is_a_tidy_workbook(demo):
     # print setup: landscape, one page wide, the header row on every page
     assert sheet.page_setup.orientation == "landscape" and sheet.page_setup.fitToWidth == 1
     assert sheet.sheet_properties.pageSetUpPr.fitToPage and sheet.print_title_rows == "$1:$1"
+    # every list cell of every sheet wraps at the top; headers are bold on grey and do not wrap
+    for name in book.sheetnames[:-1]:
+        rows = list(book[name].iter_rows())
+        assert all(c.font.bold and c.fill.fgColor.rgb.endswith("DDDDDD") and not c.alignment.wrap_text
+                   for c in rows[0])
+        body = [c for row in rows[1:] for c in row if c.value is not None and str(row[0].value) != "total"]
+        assert body and all(c.alignment.wrap_text and c.alignment.vertical == "top" for c in body)
 
 
 def test_risky_text_is_neutralised():
