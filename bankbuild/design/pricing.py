@@ -20,17 +20,24 @@ def _specificity(pattern: str) -> int:
     return sum(1 for ch in pattern if ch not in WILD)
 
 
-_PATTERNS: tuple[object, list] = (None, [])  # (the price rows, their pattern rows compiled, best first)
+_PATTERNS: tuple[object, list] = (None, [])  # (the price rows, their pattern rows, best first)
 
 
 def _pattern_rows(prices) -> list:
-    """The rows of ``prices`` that hold a pattern, each with its compiled matcher (case-blind ``fnmatch``), the
-    most specific first and, among equals, in the table's order; remembered for the last table asked about."""
+    """The rows of ``prices`` that hold a pattern, each with a slot for its compiled matcher (case-blind
+    ``fnmatch``, compiled when first needed), the most specific first and, among equals, in the table's order;
+    remembered for the last table asked about."""
     global _PATTERNS
     if _PATTERNS[0] is not prices:
         rows = sorted((p for p in prices if not WILD.isdisjoint(p.part)), key=lambda p: -_specificity(p.part))
-        _PATTERNS = (prices, [(re.compile(translate(p.part.lower())).match, p) for p in rows])
+        _PATTERNS = (prices, [[None, p] for p in rows])
     return _PATTERNS[1]
+
+
+def _matches(entry: list, names: list[str]) -> bool:
+    if entry[0] is None:
+        entry[0] = re.compile(translate(entry[1].part.lower())).match
+    return any(entry[0](n) for n in names)
 
 
 def price_for(line: BomLine, prices) -> object | None:
@@ -53,7 +60,7 @@ def price_for(line: BomLine, prices) -> object | None:
     if exact is not None:
         return exact
     lowered = [n.lower() for n in names]
-    return next((p for match, p in _pattern_rows(prices) if any(match(n) for n in lowered)), None)
+    return next((entry[1] for entry in _pattern_rows(prices) if _matches(entry, lowered)), None)
 
 
 def price_lines(lines: list[BomLine], catalogs) -> list[BomLine]:

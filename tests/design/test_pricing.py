@@ -9,6 +9,8 @@ import json
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import bankbuild
 from bankbuild.errors import CatalogError
@@ -129,3 +131,37 @@ def test_rows_out_of_order_are_sorted_on_load(case):
     key = [(r.basis, r.device, r.rating_a) for r in mine]
     assert key == sorted(key)
     assert [r.row for r in mine] != sorted(r.row for r in mine)  # the file's own order was different
+
+
+def _reference_price_for(line, prices):
+    """The rule as written (exact name first; else the pattern with most fixed characters, the earlier row among
+    equals), matched with the standard library's fnmatch, one row at a time."""
+    from fnmatch import fnmatchcase
+
+    names = [n for n in (line.part_id, line.description) if n]
+    exact = next((p for p in prices if p.part in names), None)
+    if exact is not None:
+        return exact
+    best = None
+    for p in prices:
+        if not set(p.part) & set("*?["):
+            continue
+        if any(fnmatchcase(n.lower(), p.part.lower()) for n in names):
+            if best is None or sum(ch not in "*?[" for ch in p.part) > sum(ch not in "*?[" for ch in best.part):
+                best = p
+    return best
+
+
+@settings(max_examples=200, deadline=None)
+@given(parts=st.lists(st.text(alphabet="ab-*?1", min_size=1, max_size=6), min_size=1, max_size=12),
+       part_id=st.text(alphabet="ab-1", max_size=6), description=st.text(alphabet="AB-1 ", min_size=1, max_size=8))
+def test_the_row_picked_is_the_rules_row(parts, part_id, description):
+    from types import SimpleNamespace
+
+    from bankbuild.design.pricing import price_for
+    from bankbuild.results.sizing import BomLine
+
+    prices = tuple(SimpleNamespace(part=part, row=i) for i, part in enumerate(parts, start=2))
+    line = BomLine(item=1, qty=1, unit="pcs", category="c", description=description, part_id=part_id)
+    ours, theirs = price_for(line, prices), _reference_price_for(line, prices)
+    assert (ours.row if ours else None) == (theirs.row if theirs else None)
