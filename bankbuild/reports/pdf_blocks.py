@@ -23,7 +23,16 @@ from bankbuild.reports.pdf_common import (
     styles,
     text_width,
 )
-from bankbuild.reports.pdf_grid import TextCell
+from bankbuild.reports.pdf_grid import (
+    BARE_LEADING,
+    BARE_SIZE,
+    Row,
+    Run,
+    TextCell,
+    grid_flowable,
+    plain_cell,
+    word_spacing,
+)
 from bankbuild.results.sizing import ProjectResult
 
 
@@ -152,8 +161,6 @@ def _cell(cell, width: float):
 
 
 def _lay_out(cell, width: float):
-    from bankbuild.reports.pdf_grid import BARE_LEADING, BARE_SIZE, Run, plain_cell, word_spacing
-
     if isinstance(cell, str):
         return plain_cell(cell.split("\n"), FONT, BARE_SIZE, BARE_LEADING, (0.0, 0.0, 0.0))
     if not isinstance(cell, CellText):
@@ -206,8 +213,6 @@ def grid(rows: Sequence[Sequence], widths: Sequence[float], header_rows: int = 1
     Cells are flowables, or :class:`CellText` (drawn as plain lines, broken here: much faster than a Paragraph
     per cell, and laid out the same).
     """
-    from bankbuild.reports.pdf_grid import Row, grid_flowable
-
     lefts = [0.0]
     for w in widths:
         lefts.append(lefts[-1] + w)

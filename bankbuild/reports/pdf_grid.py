@@ -10,8 +10,9 @@ The look is reportlab's own, operator for operator: the same paddings (3 pt left
 below), the first baseline one font size below the cell's top, rows as tall as their tallest cell, backgrounds,
 then text, then rules (hairlines below every row, the box, the heavier rule under the header and above each band
 row). A table splits between rows, its header rows repeated, exactly where a reportlab Table with ``repeatRows``
-would. A cell this module cannot draw as plain lines (a word wider than its column, a line that fits only with its
-spaces narrowed, markup) is a reportlab Paragraph, laid out and drawn as a Table would.
+would. A line that fits only with its spaces narrowed gets the Paragraph's word spacing. A cell this module
+cannot draw as plain lines (a word wider than its column, markup) is a reportlab Paragraph, laid out and drawn as
+a Table would.
 
 reportlab is imported inside the functions, so importing this module costs nothing until a PDF is drawn.
 """
@@ -20,7 +21,7 @@ from __future__ import annotations
 
 import itertools
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 from bankbuild.reports.pdf_common import INK, RULE_GREY, styles, text_width
 
@@ -182,21 +183,17 @@ class Row:
     rule_above: float = 0.0
     middle: bool = False
     fixed_height: float | None = None
-    height: float = field(default=0.0)
+    height: float = 0.0
 
 
 def _width_of(run: Run) -> float:
     return text_width(run.text, run.font, run.size)
 
 
-class Grid:
-    """Made by :func:`grid_flowable` (it needs reportlab's Flowable, imported late)."""
-
-
 def _grid_class():
     from reportlab.platypus.flowables import Flowable
 
-    class RuledGrid(Flowable, Grid):
+    class RuledGrid(Flowable):
         """A ruled table of prepared rows; header rows repeat on every page it continues onto."""
 
         def __init__(self, rows: list[Row], widths: Sequence[float], header_rows: int,
@@ -373,16 +370,12 @@ def grid_flowable(rows: list[Row], widths: Sequence[float], header_rows: int,
     return _GRID(rows, widths, header_rows, underlines)
 
 
-class TextBlock:
-    """Made by :func:`text_block`."""
-
-
 def _text_block_class():
     from reportlab.platypus.flowables import Flowable
 
     from bankbuild.reports.pdf_common import para_text, paragraph_class
 
-    class PlainParagraph(Flowable, TextBlock):
+    class PlainParagraph(Flowable):
         """Plain text in one style, broken into lines as a Paragraph breaks it and drawn as one would draw it;
         a Paragraph is made instead where the lines would differ (see :func:`.pdf_blocks.wrap_lines`) and when
         the block is split across pages (rare; a Paragraph splits with its widow and orphan rules)."""

@@ -179,8 +179,11 @@ class WarmWorkers:
         ``on_share`` is told of each worker's documents as they arrive (count so far, file name)."""
         rendered: dict[str, bytes] = {}
         try:
-            for _, conn in self.workers:
-                _send(conn, result)
+            try:
+                for _, conn in self.workers:
+                    conn.send(result)
+            except Exception:  # noqa: BLE001 - results that cannot be sent (pickled) are rendered here
+                return rendered
             for _, conn in self.workers:
                 try:
                     kind, value = conn.recv()

@@ -233,3 +233,10 @@ def test_no_early_workers_on_one_core(monkeypatch) -> None:
     assert not warm.ready
     out = render_documents(plant(2), WRITERS, warm=warm)
     assert all(data.decode().endswith(f":{PARENT}") for _, data in out)
+
+
+@needs_workers
+def test_results_that_cannot_be_sent_to_the_early_workers_are_rendered_here() -> None:
+    unpicklable = SimpleNamespace(banks=[1], hook=lambda: None)  # a lambda does not pickle
+    out = dict(render_documents(unpicklable, WRITERS, warm=warm_for(WRITERS)))
+    assert all(data.decode().endswith(f":{PARENT}") for data in out.values())
