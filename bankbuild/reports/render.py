@@ -80,6 +80,25 @@ def heaviest_first(writers: Sequence[Writer]) -> list[int]:
     return sorted(range(len(writers)), key=lambda i: (-cost(i), i))
 
 
+_STOP_SIGNALS = ("SIGINT", "SIGTERM", "SIGHUP")
+
+
+def _start(process) -> None:
+    """Start a worker with the stop signals held back until it has set its own handling (see
+    :func:`_worker_start`): one that came in between would run this process's handler in the worker."""
+    import signal
+
+    held = {getattr(signal, name) for name in _STOP_SIGNALS if hasattr(signal, name)}
+    if not hasattr(signal, "pthread_sigmask"):
+        process.start()
+        return
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    try:
+        process.start()
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)
+
+
 def _worker_start(parent: int) -> None:
     """Run first in every worker: the signal dispositions of a worker, and death with the parent."""
     import signal
@@ -88,6 +107,9 @@ def _worker_start(parent: int) -> None:
     for name in ("SIGTERM", "SIGHUP"):
         if hasattr(signal, name):
             signal.signal(getattr(signal, name), signal.SIG_DFL)
+    if hasattr(signal, "pthread_sigmask"):  # held back while the worker started (see _start)
+        signal.pthread_sigmask(signal.SIG_UNBLOCK,
+                               {getattr(signal, name) for name in _STOP_SIGNALS if hasattr(signal, name)})
     _die_with_parent()
     if os.getppid() != parent:  # the parent ended before the request above took effect
         os._exit(1)
@@ -164,7 +186,7 @@ class WarmWorkers:
                 conn, child = context.Pipe()
                 process = context.Process(target=_warm_main, args=(os.getpid(), prepare, make_writers, takes, child),
                                           daemon=True)
-                process.start()
+                _start(process)
                 child.close()
                 self.workers.append((process, conn))
         except OSError:  # no more processes to be had: the documents are rendered the usual way
@@ -326,7 +348,7 @@ def _render_parallel(result, writers: Sequence[Writer], workers: int, report) ->
             for job in jobs:
                 job.conn, child = context.Pipe()
                 job.process = context.Process(target=_start_and_work, args=(os.getpid(), job, child), daemon=True)
-                job.process.start()
+                _start(job.process)
                 child.close()
         except OSError:  # no more processes to be had: what did not start is rendered here
             jobs = [job for job in jobs if job.process is not None and job.process.pid is not None]

@@ -240,3 +240,26 @@ def test_results_that_cannot_be_sent_to_the_early_workers_are_rendered_here() ->
     unpicklable = SimpleNamespace(banks=[1], hook=lambda: None)  # a lambda does not pickle
     out = dict(render_documents(unpicklable, WRITERS, warm=warm_for(WRITERS)))
     assert all(data.decode().endswith(f":{PARENT}") for data in out.values())
+
+
+@needs_workers
+def test_a_worker_starts_with_the_stop_signals_held_until_its_own_handling_is_set(tmp_path) -> None:
+    """A signal that comes while a worker starts must not run this process's handler in the worker: the stop
+    signals are held back across the start and let through once the worker ignores Ctrl-C and dies on SIGTERM."""
+    import json
+    import signal
+
+    record = tmp_path / "worker.json"
+
+    def prepare():
+        mask = signal.pthread_sigmask(signal.SIG_BLOCK, [])
+        record.write_text(json.dumps({"blocked": sorted(int(s) for s in mask),
+                                      "sigint_ignored": signal.getsignal(signal.SIGINT) == signal.SIG_IGN}))
+
+    before = signal.pthread_sigmask(signal.SIG_BLOCK, [])
+    warm = render.WarmWorkers(lambda result: WRITERS, [(prepare, lambda n: True), (lambda: None, lambda n: False)])
+    render_documents(plant(1), WRITERS, warm=warm)
+    assert signal.pthread_sigmask(signal.SIG_BLOCK, []) == before  # this process's mask as it was
+    seen = json.loads(record.read_text())
+    assert seen["sigint_ignored"]
+    assert not {int(signal.SIGINT), int(signal.SIGTERM), int(signal.SIGHUP)} & set(seen["blocked"])
