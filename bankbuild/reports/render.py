@@ -201,12 +201,16 @@ class WarmWorkers:
         ``on_share`` is told of each worker's documents as they arrive (count so far, file name)."""
         rendered: dict[str, bytes] = {}
         try:
-            try:
-                for _, conn in self.workers:
-                    conn.send(result)
-            except Exception:  # noqa: BLE001 - results that cannot be sent (pickled) are rendered here
-                return rendered
+            sent = []
             for _, conn in self.workers:
+                try:
+                    conn.send(result)
+                except (OSError, ValueError):  # this worker is gone: its share is rendered here
+                    continue
+                except Exception:  # noqa: BLE001 - results that cannot be sent (pickled): all rendered here
+                    return rendered
+                sent.append(conn)
+            for conn in sent:
                 try:
                     kind, value = conn.recv()
                 except (EOFError, OSError, ValueError):

@@ -263,3 +263,16 @@ def test_a_worker_starts_with_the_stop_signals_held_until_its_own_handling_is_se
     seen = json.loads(record.read_text())
     assert seen["sigint_ignored"]
     assert not {int(signal.SIGINT), int(signal.SIGTERM), int(signal.SIGHUP)} & set(seen["blocked"])
+
+
+@needs_workers
+def test_an_early_worker_gone_before_the_results_are_sent_leaves_only_its_share_here() -> None:
+    def dies():
+        os._exit(3)
+
+    warm = render.WarmWorkers(lambda result: WRITERS, [(dies, lambda n: n.endswith(".pdf")),
+                                                       (lambda: None, lambda n: not n.endswith(".pdf"))])
+    warm.workers[0][0].join(timeout=30)  # gone: sending it the results fails (a broken pipe)
+    out = dict(render_documents(plant(1), WRITERS, warm=warm))
+    assert all(out[name].decode().endswith(f":{PARENT}") for name in out if name.endswith(".pdf"))
+    assert not any(out[name].decode().endswith(f":{PARENT}") for name in out if not name.endswith(".pdf"))
