@@ -38,9 +38,11 @@ def _number(name: str):
 
     return parse
 
+
 def _number_option(flag: str, help: str):
     """A number option whose bad values are explained (see :func:`_number`)."""
     return typer.Option(flag, parser=_number(flag[2:].replace("-", "_")), help=help)
+
 
 OutOpt = Annotated[Path | None, typer.Option("--out", help="Folder for the documents (created if missing); "
                                                           "default bankbuild-out, or none with --json.")]
@@ -52,13 +54,16 @@ CsvOpt = Annotated[str, typer.Option("--csv-delimiter", help="Cell separator of 
                                                              "(default), ';' for spreadsheets set to a locale with a "
                                                              "decimal comma, or 'tab'.")]
 
+
 def _csv_delimiter(value: str) -> str:
     if value not in CSV_DELIMITERS:
         raise OptionError("", "csv_delimiter", f"must be ',', ';' or tab (got {value!r})")
     return CSV_DELIMITERS[value]
 
+
 CatOpt = Annotated[Path | None, typer.Option("--catalogs", help="Folder of rating tables that replace the "
                                                                 "built-in ones (overrides the spec's).")]
+
 
 def _show_version(value: bool) -> None:
     if value:
@@ -67,14 +72,17 @@ def _show_version(value: bool) -> None:
         typer.echo(f"bankbuild {__version__}")
         raise typer.Exit()
 
+
 @app.callback()
 def _root(version: Annotated[bool, typer.Option("--version", callback=_show_version, is_eager=True,
                                                 help="Print the version and stop.")] = False) -> None:
     pass
 
+
 def _flagged(banks) -> list[str]:
     """``bank: check`` for every check that is not met (``ok`` false), in the results' order."""
     return [f"{bank.name}: {check.name}" for bank in banks for check in bank.checks if not check.ok]
+
 
 def _strict_exit(banks, strict: bool) -> None:
     """With ``--strict``, a flagged check ends the run with exit code 1 (after the output is complete)."""
@@ -85,6 +93,7 @@ def _strict_exit(banks, strict: bool) -> None:
                    f"{_one_line(flagged[0], 200)}{more}", err=True)
         raise typer.Exit(code=1)
 
+
 def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Path | None, label: str,
               strict: bool = False, csv_delimiter: str = ",", demo_prices: bool = False) -> None:
     """Size, then write the documents: into ``out``, or ``bankbuild-out``; with ``--json`` only when ``--out``
@@ -93,7 +102,7 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
     from bankbuild.cli.progress import Progress
     from bankbuild.reports.jsonout import project_json
     from bankbuild.reports.terminal import project_summary
-    from bankbuild.reports.writer import check_out, write_documents
+    from bankbuild.reports.writer import check_out, prestart, write_documents
 
     if out is None and not as_json:
         out = Path("bankbuild-out")
@@ -101,10 +110,7 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
     warm = None
     if out is not None:
         check_out(out)  # a folder the documents cannot go into is refused before the work, not after it
-        from bankbuild.design import sizing  # noqa: F401 - the result types, loaded once for the workers too
-        from bankbuild.reports.writer import prestart
-
-        warm = prestart(delimiter)  # they get ready to render while the banks are sized
+        warm = prestart(delimiter)  # workers that get ready to render while the banks are sized
     try:
         with Progress(enabled=not as_json) as progress:  # stderr, on a terminal, for long runs only
             result = run_spec(spec_path, catalogs_dir, label=label, on_bank=progress.callback("sizing banks"),
@@ -120,6 +126,7 @@ def _run_size(spec_path: Path, out: Path | None, as_json: bool, catalogs_dir: Pa
         typer.echo(project_summary(result, [str(p) for p in written]))
     _strict_exit(result.banks, strict)
 
+
 @app.command()
 def size(spec: Annotated[Path, typer.Argument(help="The bank spec (YAML).")],
          out: OutOpt = None, json: JsonOpt = False, catalogs: CatOpt = None, strict: StrictOpt = False,
@@ -132,6 +139,7 @@ def size(spec: Annotated[Path, typer.Argument(help="The bank spec (YAML).")],
     """
     _run_size(spec, out, json, catalogs, str(spec), strict, csv_delimiter)
 
+
 @app.command()
 def demo(out: OutOpt = None, json: JsonOpt = False, strict: StrictOpt = False, csv_delimiter: CsvOpt = ",") -> None:
     """Run the built-in demo plant (an invented site) and write its documents.
@@ -143,6 +151,7 @@ def demo(out: OutOpt = None, json: JsonOpt = False, strict: StrictOpt = False, c
     from bankbuild.api import demo_spec_path
 
     _run_size(demo_spec_path(), out, json, None, "demo.yaml (built-in)", strict, csv_delimiter, demo_prices=True)
+
 
 @app.command()
 def init(path: Annotated[Path, typer.Argument(help="Where to write the starter spec.")] = Path("bank.yaml"),
@@ -168,6 +177,7 @@ def init(path: Annotated[Path, typer.Argument(help="Where to write the starter s
         typer.echo(f"wrote {schema_path}: editors with YAML language support complete keys and underline typos "
                    "from it (the spec's first line points to it)")
 
+
 @app.command()
 def schema(what: Annotated[str, typer.Argument(
         help="spec (what you write), results (what 'size --json' prints) or rerate (what 'rerate --json' "
@@ -184,6 +194,7 @@ def schema(what: Annotated[str, typer.Argument(
         typer.echo(_dumps(results_schema("size" if what == "results" else "rerate")))
     else:
         raise OptionError("", "WHAT", f"must be spec, results or rerate (got {what!r})")
+
 
 @app.command()
 def kvar(kw: Annotated[float | None, _number_option("--kw", help="Active power of the load [kW].")] = None,
@@ -210,6 +221,7 @@ def kvar(kw: Annotated[float | None, _number_option("--kw", help="Active power o
     units = {"voltage_v": "V", "frequency_hz": "Hz"}
     assumed = [f"{figures[name]:g} {units[name]} (no --{name.replace('_', '-')} given)" for name in figures["assumed"]]
     typer.echo(kvar_text(figures) + (f"\nassumed         {', '.join(assumed)}" if assumed else ""))
+
 
 @app.command()
 def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing bank(s) (YAML).")],
@@ -242,6 +254,7 @@ def rerate(spec: Annotated[Path, typer.Argument(help="The spec of the existing b
         text += "\nassumed: each bank keeps its own supply frequency (no --frequency-hz given)"
     typer.echo(text)
     _strict_exit(result.banks, strict)
+
 
 @app.command()
 def survey(
@@ -288,6 +301,7 @@ def survey(
                           pattern=pattern, switch_in_share=switch_in_share,
                           demand_interval_min=demand_interval_min, rules=rules, name=name))
 
+
 @catalog_app.command("check")
 def catalog_check(folder: Annotated[Path | None, typer.Argument(help="Folder of tables (default: built-in).")]
                   = None) -> None:
@@ -306,6 +320,7 @@ def catalog_check(folder: Annotated[Path | None, typer.Argument(help="Folder of 
         basis = read_rule_basis(path)
         typer.echo(f"ok  {basis.file_name:<28} sha256 {basis.sha256[:16]}…  rule basis {basis.label}")
 
+
 @catalog_app.command("copy")
 def catalog_copy(folder: Annotated[Path, typer.Argument(help="Folder to copy the built-in tables into.")],
                  force: Annotated[bool, typer.Option("--force", help="Replace tables already in FOLDER.")]
@@ -320,10 +335,12 @@ def catalog_copy(folder: Annotated[Path, typer.Argument(help="Folder to copy the
         typer.echo(f"wrote {path}")
     typer.echo(f"point a spec at it with 'catalogs: {folder}' or use --catalogs {folder}")
 
+
 def _dumps(data) -> str:
     import json as _json
 
     return _json.dumps(data, indent=2, ensure_ascii=False)
+
 
 def _one_line(message: str, limit: int = 600) -> str:
     """An error message made safe to print: control characters escaped, one line, bounded length.
@@ -346,6 +363,7 @@ def _one_line(message: str, limit: int = 600) -> str:
     tail = (limit - 1) * 2 // 3 if limit >= 30 else 0
     return out[: limit - 1 - tail] + "…" + (out[-tail:] if tail else "")
 
+
 class OptionNames(dict):
     """The library's parameter names written as this command line's options: ``voltage_v`` -> ``--voltage-v``.
 
@@ -362,8 +380,10 @@ class OptionNames(dict):
     def __missing__(self, key: str) -> str:
         return self.SPECIAL.get(key, "--" + key.replace("_", "-"))
 
+
 def _say(line: str) -> None:
     typer.echo(f"bankbuild: {_one_line(line)}", err=True)
+
 
 def run(argv: list[str] | None = None) -> int:
     """Run the app: every expected failure is one line on stderr and exit code 2; a signal stops the run
@@ -387,6 +407,7 @@ def run(argv: list[str] | None = None) -> int:
 
     return run_guarded(body, _say, debug)
 
+
 def _run_app(argv: list[str]) -> int:
     from typer.exceptions import Abort, TyperException
 
@@ -407,6 +428,7 @@ def _run_app(argv: list[str]) -> int:
         _say("stopped")
         return 1
     return code if isinstance(code, int) else 0
+
 
 def main() -> None:
     """Console-script entry point."""

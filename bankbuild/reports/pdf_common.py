@@ -97,15 +97,11 @@ def register_fonts() -> frozenset[int]:
 
 
 def _cache_widths(font) -> None:
-    """Remember the width of each string drawn in ``font`` (reportlab measures TrueType text in pure Python,
-    word by word, and a table measures every cell twice). The width scales with the size exactly."""
-    measure = font.stringWidth
-
-    @lru_cache(maxsize=1 << 16)
-    def per_point(text, encoding):
-        return measure(text, 1.0, encoding)
-
-    font.stringWidth = lambda text, size, encoding="utf8": per_point(text, encoding) * size
+    """Send reportlab's own measuring of ``font`` through :func:`text_width` (it measures TrueType text in pure
+    Python, word by word, and a Table or Paragraph measures the same words again and again)."""
+    name = font.fontName
+    _MEASURES[name] = font.stringWidth
+    font.stringWidth = lambda text, size, encoding="utf8": text_width(text, name, size)
 
     # Drawing maps each character to its code in the document's font subsets, again in pure Python for every
     # string drawn. A character keeps its code once given, so the codes of a whole string are remembered, per
@@ -130,19 +126,26 @@ def _cache_widths(font) -> None:
 
 
 _WIDTHS: dict[tuple[str, str], float] = {}
+_MEASURES: dict[str, Callable] = {}  # reportlab's own measure of each of our fonts, before _cache_widths
 
 
 def text_width(text: str, font: str, size: float) -> float:
     """The width of ``text`` in ``font`` at ``size`` [pt], remembered per font and text (a document measures the
-    same words thousands of times; the width scales with the size exactly)."""
+    same words thousands of times; the width scales with the size exactly). The one width cache of the PDFs:
+    reportlab's own measuring of our fonts comes here too (:func:`_cache_widths`)."""
     key = (font, text)
     per_point = _WIDTHS.get(key)
     if per_point is None:
-        from reportlab.pdfbase.pdfmetrics import stringWidth
+        measure = _MEASURES.get(font)
+        if measure is not None:
+            per_point = measure(text, 1.0, "utf8")
+        else:
+            from reportlab.pdfbase.pdfmetrics import stringWidth
 
+            per_point = stringWidth(text, font, 1.0)
         if len(_WIDTHS) >= 1 << 17:  # bounded memory: start again
             _WIDTHS.clear()
-        per_point = _WIDTHS[key] = stringWidth(text, font, 1.0)
+        _WIDTHS[key] = per_point
     return per_point * size
 
 

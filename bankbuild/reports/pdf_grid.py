@@ -418,21 +418,14 @@ def _text_block_class():
                 self._paragraph().drawOn(self.canv, 0, 0)
                 return
             style = self.style
-            canv = self.canv
-            y = self.height - style.fontSize
-            out = ["q", colour_ops(style.textColor.rgb())]
-            for line, spare in self.lines:
-                if line:
-                    ops = text_ops(canv, style.fontName, style.fontSize, style.leading, line)
-                    spacing = word_spacing(line, spare)
-                    if spacing:
-                        ops = f"{_fp(spacing)} Tw {ops} T* 0 Tw"
-                    else:
-                        ops += " T*"
-                    out.append(f"BT 1 0 0 1 {_fp(style.leftIndent, y)} Tm {ops} ET")
-                y -= style.leading
-            out.append("Q")
-            canv._code.append("\n".join(out))
+            lines = [line for line, _ in self.lines]
+            block = plain_cell(lines, style.fontName, style.fontSize, style.leading, style.textColor.rgb(),
+                               spacing=[word_spacing(line, spare) for line, spare in self.lines])
+            x, ops = cell_ops(block, self.canv, self.width)  # x: the cell's left padding, not wanted here
+            if ops:
+                x += style.leftIndent - PAD_LEFT
+                y = self.height - style.fontSize
+                self.canv._code.append(f"q {colour_ops(block.colours[0])} BT 1 0 0 1 {_fp(x, y)} Tm {ops} ET Q")
 
     return PlainParagraph
 

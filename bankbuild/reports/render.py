@@ -80,7 +80,11 @@ def heaviest_first(writers: Sequence[Writer]) -> list[int]:
     return sorted(range(len(writers)), key=lambda i: (-cost(i), i))
 
 
-_STOP_SIGNALS = ("SIGINT", "SIGTERM", "SIGHUP")
+def _stop_signals() -> set:
+    """The signals that stop a run (SIGINT, SIGTERM, SIGHUP, where the system has them)."""
+    import signal
+
+    return {getattr(signal, name) for name in ("SIGINT", "SIGTERM", "SIGHUP") if hasattr(signal, name)}
 
 
 def _start(process) -> None:
@@ -88,11 +92,10 @@ def _start(process) -> None:
     :func:`_worker_start`): one that came in between would run this process's handler in the worker."""
     import signal
 
-    held = {getattr(signal, name) for name in _STOP_SIGNALS if hasattr(signal, name)}
     if not hasattr(signal, "pthread_sigmask"):
         process.start()
         return
-    old = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, _stop_signals())
     try:
         process.start()
     finally:
@@ -103,13 +106,10 @@ def _worker_start(parent: int) -> None:
     """Run first in every worker: the signal dispositions of a worker, and death with the parent."""
     import signal
 
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    for name in ("SIGTERM", "SIGHUP"):
-        if hasattr(signal, name):
-            signal.signal(getattr(signal, name), signal.SIG_DFL)
+    for signum in _stop_signals():  # Ctrl-C is the parent's to handle; SIGTERM and SIGHUP end the worker
+        signal.signal(signum, signal.SIG_IGN if signum == signal.SIGINT else signal.SIG_DFL)
     if hasattr(signal, "pthread_sigmask"):  # held back while the worker started (see _start)
-        signal.pthread_sigmask(signal.SIG_UNBLOCK,
-                               {getattr(signal, name) for name in _STOP_SIGNALS if hasattr(signal, name)})
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, _stop_signals())
     _die_with_parent()
     if os.getppid() != parent:  # the parent ended before the request above took effect
         os._exit(1)
@@ -141,7 +141,7 @@ def render_documents(result, writers: Sequence[Writer],
     banks = len(getattr(result, "banks", ()))
     done: dict[int, bytes] = {}
     if warm is not None and warm.ready and banks <= WARM_MAX_BANKS:
-        report(0, total, ", ".join(dict.fromkeys(name for name, _ in writers if name.endswith(".pdf"))))
+        report(0, total, ", ".join(name for name, _ in writers if name.endswith(".pdf")))
         rendered = warm.render(result, lambda names: [report(count, total, name) for count, name in names])
         done = {i: rendered[name] for i, (name, _) in enumerate(writers) if name in rendered}
     else:
@@ -226,7 +226,7 @@ class WarmWorkers:
 
     def stop(self) -> None:
         """End the workers now (they are not needed, or this process is stopping). They hold nothing worth a
-        clean ending (no file, no lock), and may not yet have set their own signal handling: killed outright."""
+        clean ending (no file, no lock): killed outright, at once."""
         workers, self.workers = self.workers, []
         for process, conn in workers:
             if process.is_alive():
