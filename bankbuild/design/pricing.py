@@ -9,6 +9,7 @@ no row matches is left unpriced, and said to be so. Prices apply per the line's 
 from __future__ import annotations
 
 import re
+from collections.abc import Callable
 from fnmatch import translate
 
 from bankbuild.results.sizing import BomLine, BomTotal
@@ -20,24 +21,68 @@ def _specificity(pattern: str) -> int:
     return sum(1 for ch in pattern if ch not in WILD)
 
 
-_PATTERNS: tuple[object, list] = (None, [])  # (the price rows, their pattern rows, best first)
+def _matcher(pattern: str) -> Callable[[str], bool]:
+    """A test of names against one ``fnmatch`` pattern, both lower-cased. A pattern whose only wildcard is ``*``
+    (every built-in one) is tested with plain string searches; ``?`` or ``[`` take the regex ``fnmatch`` makes.
+
+    >>> m = _matcher("cu-*-*-50.0")
+    >>> m("cu-480-60-50.0"), m("cu-480-50.0"), m("cu-480-60-50.01")
+    (True, False, False)
+    """
+    if "?" in pattern or "[" in pattern:
+        return re.compile(translate(pattern)).match
+    if "*" not in pattern:
+        return pattern.__eq__
+    first, *middle, last = pattern.split("*")
+    least = len(first) + len(last)
+
+    def match(name: str) -> bool:
+        if len(name) < least or not name.startswith(first) or not name.endswith(last):
+            return False
+        at, end = len(first), len(name) - len(last)
+        for piece in middle:  # each in turn, as early as it occurs: a later piece then has the most room
+            at = name.find(piece, at, end)
+            if at < 0:
+                return False
+            at += len(piece)
+        return True
+
+    return match
 
 
-def _pattern_rows(prices) -> list:
-    """The rows of ``prices`` that hold a pattern, each with a slot for its compiled matcher (case-blind
-    ``fnmatch``, compiled when first needed), the most specific first and, among equals, in the table's order;
-    remembered for the last table asked about."""
-    global _PATTERNS
-    if _PATTERNS[0] is not prices:
+class _Index:
+    """The rows of one price table ready to look up: the first row of each exact name, and the pattern rows
+    (each with its matcher, made when first needed) the most specific first and, among equals, in table order."""
+
+    def __init__(self, prices):
+        self.prices = prices
+        self.exact: dict[str, tuple[int, object]] = {}
+        for position, row in enumerate(prices):
+            self.exact.setdefault(row.part, (position, row))
         rows = sorted((p for p in prices if not WILD.isdisjoint(p.part)), key=lambda p: -_specificity(p.part))
-        _PATTERNS = (prices, [[None, p] for p in rows])
-    return _PATTERNS[1]
+        self.patterns = [[None, row] for row in rows]
+
+    def first_exact(self, names: list[str]):
+        found = [self.exact[name] for name in names if name in self.exact]
+        return min(found, key=lambda hit: hit[0])[1] if found else None
+
+    def first_pattern(self, lowered: list[str]):
+        for entry in self.patterns:
+            if entry[0] is None:
+                entry[0] = _matcher(entry[1].part.lower())
+            if any(entry[0](name) for name in lowered):
+                return entry[1]
+        return None
 
 
-def _matches(entry: list, names: list[str]) -> bool:
-    if entry[0] is None:
-        entry[0] = re.compile(translate(entry[1].part.lower())).match
-    return any(entry[0](n) for n in names)
+_INDEX: _Index | None = None  # of the last price table asked about
+
+
+def _index(prices) -> _Index:
+    global _INDEX
+    if _INDEX is None or _INDEX.prices is not prices:
+        _INDEX = _Index(prices)
+    return _INDEX
 
 
 def price_for(line: BomLine, prices) -> object | None:
@@ -56,11 +101,11 @@ def price_for(line: BomLine, prices) -> object | None:
     7
     """
     names = [n for n in (line.part_id, line.description) if n]
-    exact = next((p for p in prices if p.part in names), None)
+    index = _index(prices)
+    exact = index.first_exact(names)
     if exact is not None:
         return exact
-    lowered = [n.lower() for n in names]
-    return next((entry[1] for entry in _pattern_rows(prices) if _matches(entry, lowered)), None)
+    return index.first_pattern([n.lower() for n in names])
 
 
 def price_lines(lines: list[BomLine], catalogs) -> list[BomLine]:

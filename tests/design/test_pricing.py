@@ -153,7 +153,7 @@ def _reference_price_for(line, prices):
 
 
 @settings(max_examples=200, deadline=None)
-@given(parts=st.lists(st.text(alphabet="ab-*?1", min_size=1, max_size=6), min_size=1, max_size=12),
+@given(parts=st.lists(st.text(alphabet="ab-*?1[]", min_size=1, max_size=6), min_size=1, max_size=12),
        part_id=st.text(alphabet="ab-1", max_size=6), description=st.text(alphabet="AB-1 ", min_size=1, max_size=8))
 def test_the_row_picked_is_the_rules_row(parts, part_id, description):
     from types import SimpleNamespace
@@ -165,3 +165,15 @@ def test_the_row_picked_is_the_rules_row(parts, part_id, description):
     line = BomLine(item=1, qty=1, unit="pcs", category="c", description=description, part_id=part_id)
     ours, theirs = price_for(line, prices), _reference_price_for(line, prices)
     assert (ours.row if ours else None) == (theirs.row if theirs else None)
+
+
+@settings(max_examples=500, deadline=None)
+@given(pattern=st.text(alphabet="ab*", min_size=1, max_size=8), name=st.text(alphabet="ab", max_size=10))
+def test_a_star_only_pattern_matches_as_fnmatch_does(pattern, name):
+    """The string-search matcher of ``*`` patterns against the standard library's fnmatch (small alphabets, so
+    that most pairs come close to matching)."""
+    from fnmatch import fnmatchcase
+
+    from bankbuild.design.pricing import _matcher
+
+    assert bool(_matcher(pattern)(name)) == fnmatchcase(name, pattern)
