@@ -14,8 +14,9 @@ worker: a process each would cost more than the document (500 forks of a 500-ban
 
 A small plant's documents can be rendered by workers started before it is sized (:class:`WarmWorkers`): they
 import the PDF and workbook libraries while this process reads the tables and sizes the banks, then receive the
-results (pickled: a few hundred kB) and render. A large plant's results are not copied: those workers are
-stopped and the documents rendered by workers forked after sizing, as above.
+results (pickled: a few hundred kB) and render, the heaviest documents going to whichever worker is free. A large
+plant's results are not copied: those workers are stopped and the documents rendered by workers forked after
+sizing, as above.
 
 Whatever happens in a worker (an error, a crash, a worker killed for memory), that document is rendered
 again here, whole, so the error a user sees is the same as in a single process. Nothing is written in this module.
@@ -141,9 +142,20 @@ def render_documents(result, writers: Sequence[Writer],
     banks = len(getattr(result, "banks", ()))
     done: dict[int, bytes] = {}
     if warm is not None and warm.ready and banks <= WARM_MAX_BANKS:
-        report(0, total, ", ".join(name for name, _ in writers if name.endswith(".pdf")))
-        rendered = warm.render(result, lambda names: [report(count, total, name) for count, name in names])
-        done = {i: rendered[name] for i, (name, _) in enumerate(writers) if name in rendered}
+        index = {name: i for i, (name, _) in enumerate(writers)}
+
+        def here(taken: Callable[[str], bool]) -> None:  # this process's share, while the workers render theirs
+            for i, (name, render) in enumerate(writers):
+                if not taken(name):
+                    report(len(done), total, name)
+                    done[i] = render(result)
+
+        def arrived(name: str, data: bytes) -> None:
+            if name in index:
+                done[index[name]] = data
+                report(len(done), total, name)
+
+        warm.render(result, arrived, here)
     else:
         if warm is not None:
             warm.stop()
@@ -164,90 +176,169 @@ small); above it, workers forked after sizing share the results without a copy."
 
 
 class WarmWorkers:
-    """Worker processes started before a plant is sized, each preparing for its share of the documents (importing
+    """Worker processes started before a plant is sized, each preparing for its part of the documents (importing
     the libraries they need) while this process sizes; :meth:`render` sends them the results.
 
     ``make_writers(result)`` gives the ``(file name, renderer)`` pairs (the workers were forked before the
-    results existed, so they make the renderers themselves); ``shares`` are ``(prepare, takes)`` pairs: a
-    function run at once in the worker, and which file names the worker renders. Nothing starts on one core or
-    off Linux (:attr:`ready` is then false). A worker that fails leaves its documents to be rendered here.
+    results existed, so they make the renderers themselves). ``shares`` has one ``(prepare, own)`` pair per
+    worker: ``prepare()`` runs in the worker before the results come, and ``own(name)`` says which documents
+    only that worker renders, first. ``pooled`` names documents any worker renders, heaviest first: a worker
+    done with its own takes the next one no worker has taken (one byte read from a pipe that holds one byte per
+    document, so no two take the same), and whichever worker is ready first draws the heaviest. The documents no worker
+    renders are this process's (see :meth:`render`).
+
+    The workers form a chain: this process forks the first; each, once prepared, forks the next. So only one
+    worker runs beside the sizing (two cores are not shared three ways), and a later worker starts with what the
+    ones before it imported. A worker stays until the one it started has ended (the system ends a worker whose
+    parent ends, see :func:`_worker_start`). Nothing starts on one core or off Linux (:attr:`ready` is then
+    false). What a worker fails to render is rendered here, as is the share of a worker never started.
     """
 
     def __init__(self, make_writers: Callable[[object], Sequence[Writer]],
-                 shares: Sequence[tuple[Callable[[], None], Callable[[str], bool]]]):
-        self.workers: list[tuple[object, object]] = []
-        if worker_count(PARALLEL_MIN_BANKS, len(shares)) < 2:
+                 shares: Sequence[tuple[Callable[[], None], Callable[[str], bool]]], pooled: Sequence[str] = ()):
+        self.first = None
+        self.conns: list[object] = []
+        self.pooled = frozenset(pooled)
+        self.owns = [own for _, own in shares]
+        if worker_count(PARALLEL_MIN_BANKS, len(shares) + 1) < 2:  # + 1: this process renders beside them
             return
         import multiprocessing
 
         context = multiprocessing.get_context("fork")
+        pipes = [context.Pipe() for _ in shares]
+        self.conns = [conn for conn, _ in pipes]
+        pool, fill = os.pipe()
+        os.write(fill, bytes(range(len(pooled))))
+        os.close(fill)  # the pool ends once read empty
+        process = context.Process(target=_warm_main, daemon=True, args=(
+            os.getpid(), list(shares), tuple(pooled), pool, make_writers, [child for _, child in pipes], 0))
         try:
-            for prepare, takes in shares:
-                conn, child = context.Pipe()
-                process = context.Process(target=_warm_main, args=(os.getpid(), prepare, make_writers, takes, child),
-                                          daemon=True)
-                _start(process)
-                child.close()
-                self.workers.append((process, conn))
+            _start(process)
+            self.first = process
         except OSError:  # no more processes to be had: the documents are rendered the usual way
             self.stop()
+        finally:
+            os.close(pool)
+            for _, child in pipes:
+                child.close()
 
     @property
     def ready(self) -> bool:
-        return bool(self.workers)
+        return self.first is not None
 
-    def render(self, result, on_share: Callable[[list[tuple[int, str]]], None] | None = None) -> dict[str, bytes]:
-        """The documents the workers rendered for ``result``, by file name (those that failed are left out);
-        ``on_share`` is told of each worker's documents as they arrive (count so far, file name)."""
-        rendered: dict[str, bytes] = {}
+    @property
+    def workers(self) -> list[tuple[object, object]]:
+        """The first worker and its connection (the later ones are its descendants), while any runs."""
+        return [(self.first, self.conns[0])] if self.first is not None else []
+
+    def render(self, result, on_document: Callable[[str, bytes], None],
+               meanwhile: Callable[[Callable[[str], bool]], None] | None = None) -> None:
+        """Send ``result`` to the workers; ``on_document(name, data)`` for each document they render, as it
+        arrives (those that fail never arrive). ``meanwhile(taken)``, if given, is called once the results are
+        sent, to render here, while the workers render theirs, the documents for which ``taken(name)`` is false.
+        """
+        import pickle
+        from multiprocessing.connection import wait
+
         try:
-            sent = []
-            for _, conn in self.workers:
+            try:
+                data = pickle.dumps(result, protocol=pickle.HIGHEST_PROTOCOL)
+            except Exception:  # noqa: BLE001 - results that cannot be sent (pickled): all rendered here
+                data = None
+            live = []
+            for conn in self.conns if data is not None else ():
                 try:
-                    conn.send(result)
-                except (OSError, ValueError):  # this worker is gone: its share is rendered here
+                    conn.send_bytes(data)
+                except (OSError, ValueError):  # this worker is gone: what it would render is rendered here
                     continue
-                except Exception:  # noqa: BLE001 - results that cannot be sent (pickled): all rendered here
-                    return rendered
-                sent.append(conn)
-            for conn in sent:
-                try:
-                    kind, value = conn.recv()
-                except (EOFError, OSError, ValueError):
-                    continue
-                if kind == "done":
-                    start = len(rendered)
-                    rendered.update(value)
-                    if on_share is not None:
-                        on_share([(start + k, name) for k, (name, _) in enumerate(value, start=1)])
+                live.append(conn)
+            if meanwhile is not None:
+                meanwhile(lambda name: bool(live) and (name in self.pooled or any(own(name) for own in self.owns)))
+            while live:
+                for conn in wait(live):
+                    try:
+                        kind, name, value = conn.recv()
+                    except (EOFError, OSError, ValueError):
+                        kind = "end"
+                    if kind == "doc":
+                        on_document(name, value)
+                    else:
+                        live.remove(conn)
         finally:
             self.stop()
-        return rendered
 
     def stop(self) -> None:
         """End the workers now (they are not needed, or this process is stopping). They hold nothing worth a
-        clean ending (no file, no lock): killed outright, at once."""
-        workers, self.workers = self.workers, []
-        for process, conn in workers:
-            if process.is_alive():
-                process.kill()
+        clean ending (no file, no lock): the first is killed outright, and the system ends each later one with
+        the worker that started it."""
+        first, conns, self.first, self.conns = self.first, self.conns, None, []
+        if first is not None and first.is_alive():
+            first.kill()
+        for conn in conns:
             conn.close()
-        for process, _ in workers:
-            process.join(timeout=5)
+        if first is not None:
+            first.join(timeout=5)
 
 
-def _warm_main(parent: int, prepare, make_writers, takes, conn) -> None:
-    """The body of a warm worker: prepare, wait for the results, render its share, send it, end."""
-    code = 0
+def _warm_main(parent: int, shares, pooled: tuple[str, ...], pool: int, make_writers, conns, index: int) -> None:
+    """The body of warm worker ``index``: prepare, start the next worker of the chain, wait for the results,
+    render its own documents, then take from the pool until it is empty, sending each document as it is done;
+    say it has ended (also when it failed, so that the parent does not wait on it), wait for the worker it
+    started to end, end."""
+    code, child, conn = 1, None, conns[index]
     try:
         _worker_start(parent)
-        prepare()
-        result = conn.recv()
-        conn.send(("done", [(name, render(result)) for name, render in make_writers(result) if takes(name)]))
+        prepare, own = shares[index]
+        try:
+            prepare()
+            prepared = True
+        except Exception:  # noqa: BLE001 - this share is rendered elsewhere; the next worker still starts
+            prepared = False
+        if index + 1 < len(shares):
+            child = _fork_next(shares, pooled, pool, make_writers, conns, index)
+        for later in conns[index + 1:]:  # the later workers' ends: theirs alone, so that the parent sees them end
+            later.close()
+        if prepared:
+            import pickle
+
+            result = pickle.loads(conn.recv_bytes())
+            writers = dict(make_writers(result))
+            for name, render in writers.items():
+                if own(name):
+                    conn.send(("doc", name, render(result)))
+            while token := os.read(pool, 1):
+                name = pooled[token[0]]
+                conn.send(("doc", name, writers[name](result)))
+            code = 0
     except BaseException:  # noqa: BLE001 - the parent renders these documents again and reports the error
         code = 1
     finally:
+        try:
+            conn.send(("end", None, None))
+            conn.close()  # a parent still sending the results to a worker that failed gets a broken pipe
+        except BaseException:  # noqa: BLE001 - the parent is gone or stopped listening
+            code = 1
+        if child is not None:  # a worker ends with its parent: the one it started may still be at work
+            try:
+                os.waitpid(child, 0)
+            except BaseException:  # noqa: BLE001 - nothing to wait for
+                pass
         os._exit(code)
+
+
+def _fork_next(shares, pooled, pool: int, make_writers, conns, index: int) -> int | None:
+    """Fork the worker after ``index`` in the chain; its pid, or None when no process could be had. (No signal
+    is held back across this fork: the handling this worker set at its start is already a worker's.)"""
+    me = os.getpid()
+    try:
+        pid = os.fork()
+    except OSError:
+        return None
+    if pid == 0:
+        for earlier in conns[:index + 1]:  # the earlier workers' ends: theirs alone
+            earlier.close()
+        _warm_main(me, shares, pooled, pool, make_writers, conns, index + 1)  # ends the process
+    return pid
 
 
 def piece_ranges(banks: int, per_piece: int, workers: int) -> list[tuple[int, int]]:

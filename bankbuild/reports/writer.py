@@ -8,9 +8,12 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from bankbuild.files import FileSet, check_folder
-from bankbuild.results.sizing import ProjectResult
+
+if TYPE_CHECKING:
+    from bankbuild.results.sizing import ProjectResult
 
 ONE_LINE_SVG = "one-line-{n}.svg"
 """File name of bank n's one-line diagram (n from 1, in the order of the spec)."""
@@ -29,31 +32,29 @@ def _writers(result: ProjectResult | None = None,
     The documents of every run, then, when ``result`` is given, one SVG one-line diagram per bank. ``csv_delimiter``
     separates the CSV bill of materials' cells.
     """
-    from bankbuild.reports.jsonout import project_json
-    from bankbuild.reports.pdf_bom import bom_pdf
-    from bankbuild.reports.pdf_worksheet import worksheet_pdf
-    from bankbuild.reports.tables import bom_csv, bom_json, bom_xlsx
-
-    writers = [("results.json", lambda r: project_json(r).encode("utf-8")),
-               ("bill-of-materials.pdf", bom_pdf),
-               ("bill-of-materials.csv", lambda r: bom_csv(r, csv_delimiter)),
-               ("bill-of-materials.xlsx", bom_xlsx),
-               ("bill-of-materials.json", bom_json),
-               ("protection-worksheet.pdf", worksheet_pdf)]
+    writers = [("results.json", lambda r: _call("jsonout", "project_json", r).encode("utf-8")),
+               ("bill-of-materials.pdf", lambda r: _call("pdf_bom", "bom_pdf", r)),
+               ("bill-of-materials.csv", lambda r: _call("tables", "bom_csv", r, csv_delimiter)),
+               ("bill-of-materials.xlsx", lambda r: _call("tables", "bom_xlsx", r)),
+               ("bill-of-materials.json", lambda r: _call("tables", "bom_json", r)),
+               ("protection-worksheet.pdf", lambda r: _call("pdf_worksheet", "worksheet_pdf", r))]
     assert tuple(name for name, _ in writers[:len(DOCUMENTS)]) == DOCUMENTS
     if result is not None:
         writers += [(ONE_LINE_SVG.format(n=n), _svg_writer(n - 1)) for n in range(1, len(result.banks) + 1)]
     return writers
 
 
+def _call(module: str, function: str, *args):
+    """``bankbuild.reports.<module>.<function>(*args)``, the module imported on first use: a process imports only
+    the renderers of the documents it renders (those of the PDFs import reportlab's parts)."""
+    from importlib import import_module
+
+    return getattr(import_module(f"bankbuild.reports.{module}"), function)(*args)
+
+
 def _svg_writer(index: int) -> Callable[[ProjectResult], bytes]:
     """The renderer of one bank's one-line diagram (SVG, UTF-8)."""
-    def render(result: ProjectResult) -> bytes:
-        from bankbuild.reports.oneline import oneline_svg
-
-        return oneline_svg(result.banks[index]).encode("utf-8")
-
-    return render
+    return lambda result: _call("oneline", "oneline_svg", result.banks[index]).encode("utf-8")
 
 
 def check_out(out_dir: str | Path, names: tuple[str, ...] = DOCUMENTS) -> None:
@@ -75,25 +76,27 @@ def _prepare_pdfs() -> None:
     paragraph_class()
 
 
-def _prepare_tables() -> None:
-    """What a worker that will write the workbook and the light documents can do first: import openpyxl."""
+def _prepare_workbook() -> None:
+    """What a worker that will write the workbook can do first: import openpyxl."""
     import openpyxl  # noqa: F401
     import openpyxl.packaging.extended  # noqa: F401 - imported when a workbook is saved
 
-    from bankbuild.reports import jsonout, oneline, pdf_bom, pdf_worksheet, tables  # noqa: F401
+    from bankbuild.reports import jsonout, oneline, tables  # noqa: F401
 
 
 def prestart(csv_delimiter: str = ","):
     """Workers for a run's documents, started now, before the plant is sized (see
-    :class:`bankbuild.reports.render.WarmWorkers`): one draws the PDFs, one writes the rest. Pass them to
+    :class:`bankbuild.reports.render.WarmWorkers`): the first imports reportlab; once it has, it starts the
+    second, which so has reportlab too and imports openpyxl. The first draws PDFs, the second writes the workbook
+    and then draws PDFs (the worksheet goes to whichever is ready first, the other PDF to whichever is free
+    next). This process renders the light documents (JSON, CSV, SVG) once the results are sent. Pass them to
     :func:`write_documents`; stop them (``.stop()``) if the run ends before."""
     from bankbuild.reports.render import WarmWorkers
 
-    def is_pdf(name: str) -> bool:
-        return name.endswith(".pdf")
-
     return WarmWorkers(lambda result: _writers(result, csv_delimiter),
-                       [(_prepare_pdfs, is_pdf), (_prepare_tables, lambda name: not is_pdf(name))])
+                       [(_prepare_pdfs, lambda name: False),
+                        (_prepare_workbook, lambda name: not name.endswith(".pdf"))],
+                       pooled=("protection-worksheet.pdf", "bill-of-materials.pdf"))
 
 
 def write_documents(result: ProjectResult, out_dir: Path, on_document=None, csv_delimiter: str = ",",

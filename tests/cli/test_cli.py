@@ -4,6 +4,7 @@
 from __future__ import annotations
 
 import json
+import os
 import shutil
 import subprocess
 import sys
@@ -153,12 +154,19 @@ def test_size_terminal_flags(capsys, tmp_path):
     assert "    FLAG  Resonance: " in out  # 90 kvar on 750 kVA, 5.5%: h = √(75000 / (5.5 × 90)) = 12.31, near 13
 
 
-def test_demo(capsys, tmp_path):
+@pytest.mark.parametrize("threads", [None, "4"])
+def test_demo(capsys, tmp_path, monkeypatch, threads):
+    monkeypatch.setenv("OPENBLAS_NUM_THREADS", threads or "")  # recorded, so that the test leaves it as it was
+    if threads is None:
+        monkeypatch.delenv("OPENBLAS_NUM_THREADS")
     code, out, err = cli(capsys, "demo", "--out", tmp_path / "demo", "--json")
     assert (code, err) == (0, "")
     doc = json.loads(out)
     assert len(doc["banks"]) == 4  # the demo plant: detuned automatic, fixed, automatic, motor terminals
     assert (tmp_path / "demo" / "results.json").is_file()
+    # numpy (imported by the workbook library) starts no spinning thread pool for the documents; a user's own
+    # setting stands
+    assert os.environ["OPENBLAS_NUM_THREADS"] == (threads or "1")
 
 
 # --- init ------------------------------------------------------------------------------------------------------

@@ -74,3 +74,33 @@ def test_the_command_line_annotations_are_objects_not_text():
     import bankbuild.cli.app as app
 
     assert not isinstance(app.size.__annotations__["spec"], str)
+
+
+END_PROBE = """
+import atexit, sys
+from pathlib import Path
+marker = Path(sys.argv[1])
+atexit.register(lambda: marker.write_text("exit handlers ran"))
+from bankbuild.cli.app import main
+sys.argv = ["bankbuild", *sys.argv[2:]]
+main()
+print("not reached")
+"""
+
+
+KVAR = ["kvar", "--kw", "250", "--pf-target", "0.96"]
+
+
+@pytest.mark.parametrize(("argv", "code", "out"), [(["--version"], 0, "bankbuild "),
+                                                   ([*KVAR, "--pf-present", "0.72", "--json"], 0, "{"),
+                                                   ([*KVAR, "--pf-present", "2"], 2, "")])
+def test_the_entry_point_ends_the_process_with_exit_handlers_run_and_output_flushed(tmp_path, argv, code, out):
+    """``main`` ends the process without tearing down the interpreter, but as a normal exit does for the user:
+    the exit code, every line written, the exit handlers (a coverage tool's) run."""
+    marker = tmp_path / "atexit"
+    done = subprocess.run([sys.executable, "-c", END_PROBE, str(marker), *argv], capture_output=True, text=True,
+                          timeout=60)
+    assert done.returncode == code, done.stderr
+    assert done.stdout.startswith(out) and "not reached" not in done.stdout
+    assert marker.read_text() == "exit handlers ran"
+    assert "Traceback" not in done.stderr

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import time
 from types import SimpleNamespace
 
 import pytest
@@ -92,8 +93,6 @@ def test_heaviest_first_and_worker_count() -> None:
 
 @needs_workers
 def test_an_interruption_stops_the_workers_at_once() -> None:
-    import time
-
     def slow(result):
         time.sleep(60)
         return b"never"
@@ -132,8 +131,6 @@ def _alive(pid: int) -> bool:
 
 
 def _worker_pids(path, count: int, timeout_s: float = 30) -> list[int]:
-    import time
-
     end = time.monotonic() + timeout_s
     while time.monotonic() < end:
         pids = [int(p) for p in path.read_text().split()] if path.exists() else []
@@ -150,8 +147,6 @@ def test_workers_do_not_outlive_a_parent_killed_outright(tmp_path) -> None:
     import signal
     import subprocess
     import sys
-    import time
-
     pids_file = tmp_path / "pids"
     parent = subprocess.Popen([sys.executable, "-c", CHILD, str(pids_file)])
     try:
@@ -171,25 +166,52 @@ def test_workers_do_not_outlive_a_parent_killed_outright(tmp_path) -> None:
             parent.kill()
 
 
-def warm_for(writers):
-    """Warm workers for ``writers``: one takes the PDFs, one the rest (as the command line starts them)."""
-    def is_pdf(name):
-        return name.endswith(".pdf")
+POOLED = ("protection-worksheet.pdf", "bill-of-materials.pdf")
 
-    return render.WarmWorkers(lambda result: writers, [(lambda: None, is_pdf), (lambda: None, lambda n: not is_pdf(n))])
+
+def warm_for(writers, first=lambda: None, second=lambda: None):
+    """Warm workers for ``writers`` as the command line starts them: the first draws PDFs; the second writes the
+    workbook, then draws PDFs; the PDFs go to whichever is free; the rest is this process's."""
+    return render.WarmWorkers(lambda result: writers, [(first, lambda name: False),
+                                                       (second, lambda name: name == "bill-of-materials.xlsx")],
+                              pooled=POOLED)
+
+
+def _renderer(data: bytes) -> str:
+    return data.decode().split(":")[2]
 
 
 @needs_workers
 def test_a_small_plants_documents_are_rendered_by_the_workers_started_before_sizing() -> None:
     warm = warm_for(WRITERS)
     assert warm.ready
-    out = render_documents(plant(render.WARM_MAX_BANKS), WRITERS, warm=warm)
+    first = warm.workers[0][0].pid
+    events = []
+    out = render_documents(plant(render.WARM_MAX_BANKS), WRITERS, lambda d, t, n: events.append((d, t, n)), warm=warm)
     assert [name for name, _ in out] == [name for name, _ in WRITERS]
-    pids = {name: data.decode().split(":")[2] for name, data in out}
-    assert pids["bill-of-materials.pdf"] == pids["protection-worksheet.pdf"] != str(PARENT)
-    assert pids["results.json"] == pids["bill-of-materials.xlsx"] != pids["bill-of-materials.pdf"]
+    by = {name: _renderer(data) for name, data in out}
+    assert by["results.json"] == str(PARENT)  # a light document: rendered here, while the workers draw
+    assert by["bill-of-materials.xlsx"] not in (str(PARENT), str(first))  # the second worker's own
+    assert {by[name] for name in POOLED} <= {str(first), by["bill-of-materials.xlsx"]}
     assert all(data.decode().split(":")[1] == str(render.WARM_MAX_BANKS) for _, data in out)  # the results sent
+    counts = [d for d, _, _ in events]
+    assert events[-1] == (4, 4, "") and counts == sorted(counts)  # progress only goes forward
     assert not warm.ready and not warm.workers  # stopped once done
+
+
+@needs_workers
+def test_the_pooled_documents_go_to_whichever_worker_is_free() -> None:
+    """The second worker is busy with its workbook: the first, free, draws both PDFs, one after the other."""
+    def slow_workbook(result):
+        time.sleep(1.0)
+        return pid_writer("xlsx")(result)
+
+    writers = [*WRITERS[:2], ("bill-of-materials.xlsx", slow_workbook), WRITERS[3]]
+    warm = warm_for(writers)
+    first = str(warm.workers[0][0].pid)
+    by = {name: _renderer(data) for name, data in render_documents(plant(2), writers, warm=warm)}
+    assert by["protection-worksheet.pdf"] == by["bill-of-materials.pdf"] == first
+    assert by["bill-of-materials.xlsx"] not in (first, str(PARENT))
 
 
 @needs_workers
@@ -198,7 +220,7 @@ def test_a_large_plant_stops_the_early_workers_and_forks_its_own() -> None:
     processes = [process for process, _ in warm.workers]
     out = dict(render_documents(plant(render.WARM_MAX_BANKS + 1), WRITERS, warm=warm))
     assert not warm.workers and not any(process.is_alive() for process in processes)
-    assert len(out) == len(WRITERS) and all(data.decode().split(":")[2] != str(PARENT) for data in out.values())
+    assert len(out) == len(WRITERS) and all(_renderer(data) != str(PARENT) for data in out.values())
 
 
 @needs_workers
@@ -211,20 +233,19 @@ def test_what_an_early_worker_fails_to_render_is_rendered_here() -> None:
     writers = [*WRITERS[:3], ("protection-worksheet.pdf", broken)]
     out = dict(render_documents(plant(2), writers, warm=warm_for(writers)))
     assert out["protection-worksheet.pdf"] == b"rendered here"
-    assert out["bill-of-materials.pdf"].decode().endswith(f":{PARENT}")  # its worker failed: done here too
-    assert not out["results.json"].decode().endswith(f":{PARENT}")  # the other worker's share stands
+    assert _renderer(out["bill-of-materials.xlsx"]) != str(PARENT)  # the other worker's documents stand
 
 
 @needs_workers
-def test_an_early_worker_whose_preparation_fails_leaves_its_share_here() -> None:
+def test_a_worker_whose_preparation_fails_leaves_its_share_to_the_others() -> None:
     def fails():
         raise ImportError("no such library")
 
-    warm = render.WarmWorkers(lambda result: WRITERS, [(fails, lambda n: n.endswith(".pdf")),
-                                                       (lambda: None, lambda n: not n.endswith(".pdf"))])
-    out = dict(render_documents(plant(1), WRITERS, warm=warm))
-    assert all(out[name].decode().endswith(f":{PARENT}") for name in out if name.endswith(".pdf"))
-    assert not any(out[name].decode().endswith(f":{PARENT}") for name in out if not name.endswith(".pdf"))
+    warm = warm_for(WRITERS, second=fails)
+    first = str(warm.workers[0][0].pid)
+    by = {name: _renderer(data) for name, data in render_documents(plant(1), WRITERS, warm=warm)}
+    assert by["bill-of-materials.xlsx"] == str(PARENT)  # its own: rendered here
+    assert by["protection-worksheet.pdf"] == by["bill-of-materials.pdf"] == first  # the pool: the other worker's
 
 
 def test_no_early_workers_on_one_core(monkeypatch) -> None:
@@ -257,8 +278,7 @@ def test_a_worker_starts_with_the_stop_signals_held_until_its_own_handling_is_se
                                       "sigint_ignored": signal.getsignal(signal.SIGINT) == signal.SIG_IGN}))
 
     before = signal.pthread_sigmask(signal.SIG_BLOCK, [])
-    warm = render.WarmWorkers(lambda result: WRITERS, [(prepare, lambda n: True), (lambda: None, lambda n: False)])
-    render_documents(plant(1), WRITERS, warm=warm)
+    render_documents(plant(1), WRITERS, warm=warm_for(WRITERS, first=prepare))
     assert signal.pthread_sigmask(signal.SIG_BLOCK, []) == before  # this process's mask as it was
     seen = json.loads(record.read_text())
     assert seen["sigint_ignored"]
@@ -266,13 +286,101 @@ def test_a_worker_starts_with_the_stop_signals_held_until_its_own_handling_is_se
 
 
 @needs_workers
-def test_an_early_worker_gone_before_the_results_are_sent_leaves_only_its_share_here() -> None:
+def test_a_later_worker_gone_before_the_results_are_sent_leaves_only_its_own_here() -> None:
     def dies():
         os._exit(3)
 
-    warm = render.WarmWorkers(lambda result: WRITERS, [(dies, lambda n: n.endswith(".pdf")),
-                                                       (lambda: None, lambda n: not n.endswith(".pdf"))])
-    warm.workers[0][0].join(timeout=30)  # gone: sending it the results fails (a broken pipe)
+    warm = warm_for(WRITERS, second=dies)
+    first = str(warm.workers[0][0].pid)
+    assert warm.conns[1].poll(30)  # its end of the pipe closed: gone, and sending it the results fails
+    by = {name: _renderer(data) for name, data in render_documents(plant(1), WRITERS, warm=warm)}
+    assert by["bill-of-materials.xlsx"] == str(PARENT)
+    assert by["protection-worksheet.pdf"] == by["bill-of-materials.pdf"] == first
+
+
+@needs_workers
+def test_a_first_worker_gone_before_it_started_the_next_leaves_every_document_here() -> None:
+    def dies():
+        os._exit(3)
+
+    warm = warm_for(WRITERS, first=dies)
+    warm.workers[0][0].join(timeout=30)
     out = dict(render_documents(plant(1), WRITERS, warm=warm))
-    assert all(out[name].decode().endswith(f":{PARENT}") for name in out if name.endswith(".pdf"))
-    assert not any(out[name].decode().endswith(f":{PARENT}") for name in out if not name.endswith(".pdf"))
+    assert all(data.decode().endswith(f":{PARENT}") for data in out.values())
+
+
+@needs_workers
+def test_each_later_worker_is_started_by_the_one_before_once_it_is_prepared(tmp_path) -> None:
+    """The chain: the second worker is the first one's child, started after the first one's preparation (so it
+    has what that imported), and the first stays until the second has sent its share."""
+    import json
+
+    record = tmp_path / "chain.json"
+
+    def first():
+        os.environ["BANKBUILD_TEST_PREPARED_BY"] = str(os.getpid())  # seen by the child only if it forks after
+
+    def second():
+        record.write_text(json.dumps({"parent": os.getppid(),
+                                      "prepared_by": os.environ.get("BANKBUILD_TEST_PREPARED_BY")}))
+
+    def slow_workbook(result):
+        time.sleep(0.5)  # the first worker is done long before: it must not end (and take this one with it)
+        return pid_writer("xlsx")(result)
+
+    writers = [WRITERS[0], ("bill-of-materials.xlsx", slow_workbook)]
+    warm = warm_for(writers, first=first, second=second)
+    first_pid = warm.workers[0][0].pid
+    by = {name: _renderer(data) for name, data in render_documents(plant(1), writers, warm=warm)}
+    assert json.loads(record.read_text()) == {"parent": first_pid, "prepared_by": str(first_pid)}
+    assert by["bill-of-materials.xlsx"] not in (str(first_pid), str(PARENT))
+    assert "BANKBUILD_TEST_PREPARED_BY" not in os.environ
+
+
+@needs_workers
+def test_a_worker_that_fails_to_prepare_does_not_hold_up_this_process() -> None:
+    """A worker whose preparation failed says so and closes its end: this process, sending it results larger
+    than a pipe holds, gets a broken pipe instead of waiting for ever."""
+    def fails():
+        raise ImportError("no such library")
+
+    big = SimpleNamespace(banks=[1], padding=b"x" * 4_000_000)
+    start = time.perf_counter()
+    by = {name: _renderer(data) for name, data in render_documents(big, WRITERS, warm=warm_for(WRITERS, first=fails))}
+    assert time.perf_counter() - start < 20
+    assert by["protection-worksheet.pdf"] != str(PARENT)  # drawn by the second worker, from the pool
+
+
+CHAIN_CHILD = """
+import os, sys, time
+from bankbuild.reports.render import WarmWorkers
+
+def prepare():
+    with open(sys.argv[1], "a") as handle:
+        handle.write(f"{os.getpid()}\\n")
+
+warm = WarmWorkers(lambda result: [], [(prepare, lambda name: False), (prepare, lambda name: False)])
+time.sleep(60)
+"""
+
+
+@needs_workers
+@pytest.mark.skipif(not os.path.exists("/proc/self/stat"), reason="reads /proc")
+def test_a_chain_of_workers_does_not_outlive_a_parent_killed_outright(tmp_path) -> None:
+    import subprocess
+    import sys
+
+    pids_file = tmp_path / "pids"
+    parent = subprocess.Popen([sys.executable, "-c", CHAIN_CHILD, str(pids_file)])
+    try:
+        workers = _worker_pids(pids_file, 2)
+        assert all(_alive(p) for p in workers)
+        parent.kill()
+        parent.wait(timeout=30)
+        end = time.monotonic() + 10
+        while any(_alive(p) for p in workers) and time.monotonic() < end:
+            time.sleep(0.05)
+        assert not [p for p in workers if _alive(p)]
+    finally:
+        if parent.poll() is None:
+            parent.kill()
