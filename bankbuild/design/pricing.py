@@ -52,7 +52,9 @@ def _matcher(pattern: str) -> Callable[[str], bool]:
 
 class _Index:
     """The rows of one price table ready to look up: the first row of each exact name, and the pattern rows
-    (each with its matcher, made when first needed) the most specific first and, among equals, in table order."""
+    (each with its matcher, made when first needed) the most specific first and, among equals, in table order.
+    A name is tried only against the patterns that can match it: those that begin with its first character or
+    with a wildcard."""
 
     def __init__(self, prices):
         self.prices = prices
@@ -60,19 +62,35 @@ class _Index:
         for position, row in enumerate(prices):
             self.exact.setdefault(row.part, (position, row))
         rows = sorted((p for p in prices if not WILD.isdisjoint(p.part)), key=lambda p: -_specificity(p.part))
-        self.patterns = [[None, row] for row in rows]
+        self.patterns = [[None, row, row.part.lower()] for row in rows]
+        self.by_start: dict[str, list[tuple[int, list]]] = {}  # first character -> (rank, entry), made when asked
+        self.found: dict[tuple[str, ...], object] = {}
 
     def first_exact(self, names: list[str]):
         found = [self.exact[name] for name in names if name in self.exact]
         return min(found, key=lambda hit: hit[0])[1] if found else None
 
+    def _candidates(self, start: str) -> list[tuple[int, list]]:
+        if start not in self.by_start:
+            self.by_start[start] = [(rank, entry) for rank, entry in enumerate(self.patterns)
+                                    if entry[2][:1] == start or entry[2][:1] in WILD]
+        return self.by_start[start]
+
     def first_pattern(self, lowered: list[str]):
-        for entry in self.patterns:
-            if entry[0] is None:
-                entry[0] = _matcher(entry[1].part.lower())
-            if any(entry[0](name) for name in lowered):
-                return entry[1]
-        return None
+        key = tuple(lowered)
+        if key not in self.found:
+            best: tuple[int, object] | None = None
+            for name in lowered:
+                for rank, entry in self._candidates(name[:1]):
+                    if best is not None and rank >= best[0]:
+                        break
+                    if entry[0] is None:
+                        entry[0] = _matcher(entry[2])
+                    if entry[0](name):
+                        best = (rank, entry[1])
+                        break
+            self.found[key] = best[1] if best is not None else None
+        return self.found[key]
 
 
 _INDEX: _Index | None = None  # of the last price table asked about
