@@ -33,11 +33,11 @@ def _writers(result: ProjectResult | None = None,
     separates the CSV bill of materials' cells.
     """
     writers = [("results.json", lambda r: _call("jsonout", "project_json", r).encode("utf-8")),
-               ("bill-of-materials.pdf", lambda r: _call("pdf_bom", "bom_pdf", r)),
+               ("bill-of-materials.pdf", _Deferred("pdf_bom", "bom_pdf")),
                ("bill-of-materials.csv", lambda r: _call("tables", "bom_csv", r, csv_delimiter)),
                ("bill-of-materials.xlsx", lambda r: _call("tables", "bom_xlsx", r)),
                ("bill-of-materials.json", lambda r: _call("tables", "bom_json", r)),
-               ("protection-worksheet.pdf", lambda r: _call("pdf_worksheet", "worksheet_pdf", r))]
+               ("protection-worksheet.pdf", _Deferred("pdf_worksheet", "worksheet_pdf"))]
     assert tuple(name for name, _ in writers[:len(DOCUMENTS)]) == DOCUMENTS
     if result is not None:
         writers += [(ONE_LINE_SVG.format(n=n), _svg_writer(n - 1)) for n in range(1, len(result.banks) + 1)]
@@ -50,6 +50,29 @@ def _call(module: str, function: str, *args):
     from importlib import import_module
 
     return getattr(import_module(f"bankbuild.reports.{module}"), function)(*args)
+
+
+class _Deferred:
+    """A document renderer of ``bankbuild.reports.<module>``, imported when first used: called, or asked for an
+    attribute (a PDF's ``banks_per_piece`` and ``render_range``, which split a large plant's document into
+    pieces; see :class:`.pdf_common.PdfDocument`)."""
+
+    def __init__(self, module: str, name: str):
+        self._where = (module, name)
+
+    def _target(self):
+        from importlib import import_module
+
+        module, name = self._where
+        return getattr(import_module(f"bankbuild.reports.{module}"), name)
+
+    def __call__(self, *args):
+        return self._target()(*args)
+
+    def __getattr__(self, attr: str):
+        if attr.startswith("_"):  # copy and pickle probe such names: not the renderer's
+            raise AttributeError(attr)
+        return getattr(self._target(), attr)
 
 
 def _svg_writer(index: int) -> Callable[[ProjectResult], bytes]:

@@ -111,3 +111,18 @@ def test_a_piece_that_fails_leaves_the_document_to_this_process(plant, monkeypat
                                                ("results.json", lambda r: b"{}")]))
     assert unnumbered(out["protection-worksheet.pdf"]) == unnumbered(real(plant, 0, 9, lambda n: (0, n)))
     assert out["results.json"] == b"{}"
+
+
+@needs_workers
+def test_the_command_lines_writers_split_a_large_plants_pdfs_into_pieces(plant, monkeypatch):
+    """The writers the command line renders with import their modules on first use, but still say how a PDF
+    splits: each PDF of a large plant is more than one job."""
+    from bankbuild.reports.writer import _writers
+
+    monkeypatch.setattr(worksheet_pdf, "banks_per_piece", 3)
+    monkeypatch.setattr(bom_pdf, "banks_per_piece", 4)
+    writers = _writers(plant)
+    jobs = render._jobs(plant, writers, render.worker_count(9, len(writers)))
+    for name in ("protection-worksheet.pdf", "bill-of-materials.pdf"):
+        index = [n for n, _ in writers].index(name)
+        assert sum(job.writer == index for job in jobs) >= 2, name
