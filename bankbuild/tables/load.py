@@ -386,7 +386,7 @@ def _self_check() -> None:
     if catalog_fields != [t.attr for t in TABLES]:
         raise TypeError(f"Catalogs fields {catalog_fields} do not match the table registry")
     for t in TABLES:
-        row_fields = tuple(f.name for f in fields(t.row_type))
+        row_fields = t.row_type._fields
         if row_fields != (*t.names, "table", "row"):
             raise TypeError(f"{t.row_type.__name__} fields do not match the columns of {t.file_name}")
         if not re.fullmatch(r"[a-z0-9_]+\.csv", t.file_name):

@@ -1,4 +1,4 @@
-"""The row types of every rating table: plain frozen dataclasses, so that callers never need pandas.
+"""The row types of every rating table: plain named tuples (immutable), so that callers never need pandas.
 
 Each row keeps the file name (``table``) and line (``row``) it came from, so that a pick can name its source.
 The declared schemas are in :mod:`bankbuild.tables.registry`; the CSV files in ``bankbuild/tables/data/``,
@@ -7,11 +7,10 @@ each stating its source, or "from memory", in its ``#`` notes.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from typing import NamedTuple
 
 
-@dataclass(frozen=True)
-class CapacitorUnit:
+class CapacitorUnit(NamedTuple):
     """A three-phase capacitor unit: nameplate kvar at its rated voltage and frequency."""
 
     unit_id: str
@@ -27,8 +26,7 @@ class CapacitorUnit:
     row: int
 
 
-@dataclass(frozen=True)
-class Price:
+class Price(NamedTuple):
     """A unit price for quotation: a part id or a pattern of ids or descriptions, and what the part costs."""
 
     part: str
@@ -40,8 +38,7 @@ class Price:
     row: int
 
 
-@dataclass(frozen=True)
-class DeviceRating:
+class DeviceRating(NamedTuple):
     """A standard ampere rating of a fuse or breaker under one rule basis."""
 
     basis: str
@@ -51,8 +48,7 @@ class DeviceRating:
     row: int
 
 
-@dataclass(frozen=True)
-class BreakerFrame:
+class BreakerFrame(NamedTuple):
     """A breaker frame size (largest trip rating the frame accepts)."""
 
     basis: str
@@ -61,8 +57,7 @@ class BreakerFrame:
     row: int
 
 
-@dataclass(frozen=True)
-class DisconnectRating:
+class DisconnectRating(NamedTuple):
     """An ampere rating of a disconnecting means (switch)."""
 
     basis: str
@@ -71,8 +66,7 @@ class DisconnectRating:
     row: int
 
 
-@dataclass(frozen=True)
-class NecConductor:
+class NecConductor(NamedTuple):
     """A copper conductor size with its NEC Table 310.16 ampacities for one code edition."""
 
     edition: int
@@ -85,8 +79,7 @@ class NecConductor:
     row: int
 
 
-@dataclass(frozen=True)
-class IecConductor:
+class IecConductor(NamedTuple):
     """A copper cross-section with its IEC 60364-5-52 current-carrying capacity for one installation."""
 
     insulation: str
@@ -97,8 +90,7 @@ class IecConductor:
     row: int
 
 
-@dataclass(frozen=True)
-class Reactor:
+class Reactor(NamedTuple):
     """A three-phase detuning reactor for one step: tuning factor, system voltage and step output."""
 
     reactor_id: str
@@ -114,8 +106,7 @@ class Reactor:
     row: int
 
 
-@dataclass(frozen=True)
-class Contactor:
+class Contactor(NamedTuple):
     """A capacitor-duty contactor rating at one voltage; ``damping`` names pre-insertion resistors.
 
     ``ac6b_current_a`` is the capacitor current the frame may switch at ``voltage_v`` (category AC-6b); the kvar
@@ -135,8 +126,7 @@ class Contactor:
     row: int
 
 
-@dataclass(frozen=True)
-class Controller:
+class Controller(NamedTuple):
     """A power-factor controller: step outputs, measuring sensitivity and reconnection-delay range."""
 
     controller_id: str
@@ -151,8 +141,7 @@ class Controller:
     row: int
 
 
-@dataclass(frozen=True)
-class CurrentTransformer:
+class CurrentTransformer(NamedTuple):
     """A measuring current transformer: ratio, rated burden and accuracy class."""
 
     ct_id: str
@@ -165,8 +154,7 @@ class CurrentTransformer:
     row: int
 
 
-@dataclass(frozen=True)
-class ControlTransformer:
+class ControlTransformer(NamedTuple):
     """A single-phase control power transformer."""
 
     transformer_id: str
@@ -177,8 +165,7 @@ class ControlTransformer:
     row: int
 
 
-@dataclass(frozen=True)
-class ControlFuse:
+class ControlFuse(NamedTuple):
     """A small fuse for control and measuring circuits."""
 
     fuse_id: str
@@ -189,8 +176,7 @@ class ControlFuse:
     row: int
 
 
-@dataclass(frozen=True)
-class DeviceLoss:
+class DeviceLoss(NamedTuple):
     """Power loss of one fuse-link or one breaker pole at rated current, up to ``max_rating_a``."""
 
     device: str
@@ -200,8 +186,7 @@ class DeviceLoss:
     row: int
 
 
-@dataclass(frozen=True)
-class Fan:
+class Fan(NamedTuple):
     """An enclosure fan with its inlet filter and outlet grille; airflow with the filters fitted."""
 
     fan_id: str
@@ -212,8 +197,7 @@ class Fan:
     row: int
 
 
-@dataclass(frozen=True)
-class Busbar:
+class Busbar(NamedTuple):
     """A copper busbar arrangement per phase and its continuous current rating."""
 
     busbar_id: str

@@ -201,7 +201,7 @@ def test_30_kvar_480_v_unit_at_other_voltages(thirty_kvar_480v, volts, delivered
 def test_440_v_100_kvar_unit_on_380_v(catalogs_module):
     # Source: trade-facts, checkable example: "A 440 V, 100 kvar unit on 380 V delivers 74.6 kvar".
     (template,) = [u for u in catalogs_module.capacitor_units if u.unit_id == "CU-440-50-50.0"]
-    unit = dataclasses.replace(template, unit_id="CU-440-50-100.0", rated_kvar=100.0)
+    unit = template._replace(unit_id="CU-440-50-100.0", rated_kvar=100.0)
     tables = dataclasses.replace(catalogs_module, capacitor_units=(unit,))
     bank = size_project(_spec({"supply": {"voltage_v": 380, "frequency_hz": 50}, "need": {"kvar": 70}}, "iec"),
                         tables).banks[0]
