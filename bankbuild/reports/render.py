@@ -196,6 +196,8 @@ class WarmWorkers:
 
     def __init__(self, make_writers: Callable[[object], Sequence[Writer]],
                  shares: Sequence[tuple[Callable[[], None], Callable[[str], bool]]], pooled: Sequence[str] = ()):
+        if len(pooled) > 256:
+            raise ValueError("at most 256 pooled documents (one byte each in the pool)")
         self.first = None
         self.conns: list[object] = []
         self.pooled = frozenset(pooled)

@@ -100,7 +100,8 @@ def _prepare_pdfs() -> None:
 
 
 def _prepare_workbook() -> None:
-    """What a worker that will write the workbook can do first: import openpyxl."""
+    """What a worker that will write the workbook and the light documents can do first: import openpyxl and
+    their modules."""
     import openpyxl  # noqa: F401
     import openpyxl.packaging.extended  # noqa: F401 - imported when a workbook is saved
 
@@ -110,10 +111,10 @@ def _prepare_workbook() -> None:
 def prestart(csv_delimiter: str = ","):
     """Workers for a run's documents, started now, before the plant is sized (see
     :class:`bankbuild.reports.render.WarmWorkers`): the first imports reportlab; once it has, it starts the
-    second, which so has reportlab too and imports openpyxl. The first draws PDFs, the second writes the workbook
-    and then draws PDFs (the worksheet goes to whichever is ready first, the other PDF to whichever is free
-    next). This process renders the light documents (JSON, CSV, SVG) once the results are sent. Pass them to
-    :func:`write_documents`; stop them (``.stop()``) if the run ends before."""
+    second, which so has reportlab too and imports openpyxl. The first draws PDFs; the second writes the workbook,
+    JSON, CSV and SVGs, then draws PDFs too (the worksheet goes to whichever is ready first, the bill of materials
+    to whichever is free next). Pass them to :func:`write_documents`; stop them (``.stop()``) if the run ends
+    before."""
     from bankbuild.reports.render import WarmWorkers
 
     return WarmWorkers(lambda result: _writers(result, csv_delimiter),
