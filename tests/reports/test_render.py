@@ -140,20 +140,18 @@ def _worker_pids(path, count: int, timeout_s: float = 30) -> list[int]:
     raise AssertionError(f"workers did not start: {path.read_text() if path.exists() else ''}")
 
 
-@needs_workers
-@pytest.mark.skipif(not os.path.exists("/proc/self/stat"), reason="reads /proc")
-def test_workers_do_not_outlive_a_parent_killed_outright(tmp_path) -> None:
-    """SIGKILL gives the parent no chance to stop its workers: the system ends them (PR_SET_PDEATHSIG)."""
-    import signal
+def _workers_end_with_a_parent_killed_outright(tmp_path, child: str, before_kill=None) -> None:
+    """Run ``child`` (a script whose two workers each write their pid into the file it is given), kill it with
+    SIGKILL, and check that both workers end too."""
     import subprocess
     import sys
+
     pids_file = tmp_path / "pids"
-    parent = subprocess.Popen([sys.executable, "-c", CHILD, str(pids_file)])
+    parent = subprocess.Popen([sys.executable, "-c", child, str(pids_file)])
     try:
         workers = _worker_pids(pids_file, 2)
-        for pid in workers:  # a terminal's Ctrl-C reaches every process of the job: a worker leaves it to the parent
-            os.kill(pid, signal.SIGINT)
-        time.sleep(0.3)
+        if before_kill is not None:
+            before_kill(workers)
         assert all(_alive(p) for p in workers)
         parent.kill()
         parent.wait(timeout=30)
@@ -164,6 +162,20 @@ def test_workers_do_not_outlive_a_parent_killed_outright(tmp_path) -> None:
     finally:
         if parent.poll() is None:
             parent.kill()
+
+
+@needs_workers
+@pytest.mark.skipif(not os.path.exists("/proc/self/stat"), reason="reads /proc")
+def test_workers_do_not_outlive_a_parent_killed_outright(tmp_path) -> None:
+    """SIGKILL gives the parent no chance to stop its workers: the system ends them (PR_SET_PDEATHSIG)."""
+    import signal
+
+    def interrupt(workers):  # a terminal's Ctrl-C reaches every process of the job: a worker leaves it to the parent
+        for pid in workers:
+            os.kill(pid, signal.SIGINT)
+        time.sleep(0.3)
+
+    _workers_end_with_a_parent_killed_outright(tmp_path, CHILD, interrupt)
 
 
 POOLED = ("protection-worksheet.pdf", "bill-of-materials.pdf")
@@ -367,20 +379,5 @@ time.sleep(60)
 @needs_workers
 @pytest.mark.skipif(not os.path.exists("/proc/self/stat"), reason="reads /proc")
 def test_a_chain_of_workers_does_not_outlive_a_parent_killed_outright(tmp_path) -> None:
-    import subprocess
-    import sys
-
-    pids_file = tmp_path / "pids"
-    parent = subprocess.Popen([sys.executable, "-c", CHAIN_CHILD, str(pids_file)])
-    try:
-        workers = _worker_pids(pids_file, 2)
-        assert all(_alive(p) for p in workers)
-        parent.kill()
-        parent.wait(timeout=30)
-        end = time.monotonic() + 10
-        while any(_alive(p) for p in workers) and time.monotonic() < end:
-            time.sleep(0.05)
-        assert not [p for p in workers if _alive(p)]
-    finally:
-        if parent.poll() is None:
-            parent.kill()
+    """The second worker is the first one's child: killing the parent ends the first, which ends the second."""
+    _workers_end_with_a_parent_killed_outright(tmp_path, CHAIN_CHILD)
