@@ -8,6 +8,7 @@ are typical practice: each line says so, and the rule basis decides only default
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import NamedTuple
 
 from bankbuild.calc import ampacity as amp
 from bankbuild.design.select import ConductorChoice, Rating, next_rating, pick_conductor
@@ -75,9 +76,9 @@ class CircuitContext:
         return None
 
 
-@dataclass(frozen=True)
-class DeratedRow:
-    """One conductor size with its ampacity after correction and the termination limit (one set) [A]."""
+class DeratedRow(NamedTuple):
+    """One conductor size with its ampacity after correction and the termination limit (one set) [A]. A named
+    tuple: every circuit derates every row of the table, so a 500-bank plant makes some 100,000 of them."""
 
     size: str
     area_mm2: float
@@ -178,11 +179,15 @@ def termination_for(ctx: CircuitContext, circuit_a: float, area_mm2: float) -> t
     if term is None or insulation is None:
         return None, ""
     marked = ctx.termination_c if ctx.termination_c is not None else term.default_c
-    small = circuit_a <= term.small_circuit_max_a + 1e-9 or area_mm2 <= ONE_AWG_MM2 + 0.01
-    text = term.small_circuit_text if small else term.large_circuit_text
+    text = term.small_circuit_text if _small(term, circuit_a, area_mm2) else term.large_circuit_text
     limit = min(marked, insulation)
     source = "stated" if ctx.termination_c is not None else "default, assumed marked"
     return limit, f"{text}; terminals {marked} °C ({source})"
+
+
+def _small(term, circuit_a: float, area_mm2: float) -> bool:
+    """NEC 110.14(C)(1)(a): a circuit rated 100 A or less, or a 14–1 AWG conductor."""
+    return circuit_a <= term.small_circuit_max_a + 1e-9 or area_mm2 <= ONE_AWG_MM2 + 0.01
 
 
 def derated_rows(ctx: CircuitContext, circuit_a: float, circuits: int) -> tuple[DeratedRow, ...]:
@@ -194,10 +199,15 @@ def derated_rows(ctx: CircuitContext, circuit_a: float, circuits: int) -> tuple[
     f_amb, f_grp, _, _ = correction_factors(ctx, circuits)
     out = []
     name = conductor_name(ctx.rules)
+    term = ctx.rule_basis.terminations
+    limits: dict[bool, tuple[int | None, str]] = {}  # the termination limit and its rule, by kind of row
     for row in ctx.conductor_rows:
         table_a = float(getattr(row, ctx.ampacity_attr))
         corrected = amp.corrected_ampacity_a(table_a, f_amb or 0.0, f_grp or 0.0)
-        term_c, term_rule = termination_for(ctx, circuit_a, row.area_mm2)
+        small = term is not None and _small(term, circuit_a, row.area_mm2)
+        if small not in limits:
+            limits[small] = termination_for(ctx, circuit_a, row.area_mm2)
+        term_c, term_rule = limits[small]
         term_a = float(getattr(row, f"ampacity_{term_c}c_a")) if term_c is not None else None
         ampacity = corrected if term_a is None else min(corrected, term_a)
         out.append(DeratedRow(size=name(row), area_mm2=row.area_mm2, ampacity_a=ampacity, table_a=table_a,
