@@ -445,7 +445,6 @@ def _end(code: int) -> None:
     torn down module by module. Freeing every object of the libraries loaded (numpy's among them) took longer
     than some commands (~50 ms of the demo's 0.8 s); the system reclaims the memory at once."""
     import atexit
-    import os
 
     atexit._run_exitfuncs()
     for stream in (sys.stdout, sys.stderr):

@@ -44,12 +44,17 @@ def _writers(result: ProjectResult | None = None,
     return writers
 
 
-def _call(module: str, function: str, *args):
-    """``bankbuild.reports.<module>.<function>(*args)``, the module imported on first use: a process imports only
-    the renderers of the documents it renders (those of the PDFs import reportlab's parts)."""
+def _load(module: str, name: str):
+    """``bankbuild.reports.<module>.<name>``, the module imported now: a process imports only the renderers of the
+    documents it renders (those of the PDFs import reportlab's parts)."""
     from importlib import import_module
 
-    return getattr(import_module(f"bankbuild.reports.{module}"), function)(*args)
+    return getattr(import_module(f"bankbuild.reports.{module}"), name)
+
+
+def _call(module: str, function: str, *args):
+    """``bankbuild.reports.<module>.<function>(*args)``, the module imported on first use (see :func:`_load`)."""
+    return _load(module, function)(*args)
 
 
 class _Deferred:
@@ -61,10 +66,7 @@ class _Deferred:
         self._where = (module, name)
 
     def _target(self):
-        from importlib import import_module
-
-        module, name = self._where
-        return getattr(import_module(f"bankbuild.reports.{module}"), name)
+        return _load(*self._where)
 
     def __call__(self, *args):
         return self._target()(*args)
@@ -91,7 +93,7 @@ def _prepare_pdfs() -> None:
     import reportlab.pdfgen.canvas  # noqa: F401
     import reportlab.platypus  # noqa: F401
 
-    from bankbuild.reports import bank_charts, jsonout, pdf_bom, pdf_worksheet  # noqa: F401
+    from bankbuild.reports import bank_charts, pdf_bom, pdf_worksheet  # noqa: F401
     from bankbuild.reports.pdf_common import paragraph_class, register_fonts, styles
 
     register_fonts()
